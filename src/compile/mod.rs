@@ -1,0 +1,1 @@
+//! The job sheet: splits, candidates and jobs, content-hashed. (Being built.)

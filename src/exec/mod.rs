@@ -1,0 +1,1 @@
+//! Running a job sheet. (Being built.)

@@ -1,0 +1,56 @@
+//! The `ridge` learner. (Being built: see the learners issue.)
+
+use ndarray::ArrayView2;
+
+use super::{
+    LearnError, Learner, Outcome, SettingDefault, SettingKind, SettingSpec, Settings, Task,
+    TrainPart,
+};
+
+/// The `ridge` learner.
+#[derive(Clone, Copy, Debug, Default)]
+pub struct Ridge;
+
+const SETTINGS: &[SettingSpec] = &[SettingSpec {
+    name: "lambda",
+    kind: SettingKind::Float { min: 0.0 },
+    default: SettingDefault::Float(1.0),
+    help: "L2 penalty on the coefficients (the intercept is not penalised)",
+}];
+
+impl Learner for Ridge {
+    fn name(&self) -> &'static str {
+        "ridge"
+    }
+
+    fn settings(&self) -> &'static [SettingSpec] {
+        SETTINGS
+    }
+
+    fn supports(&self, task: Task) -> bool {
+        matches!(task, Task::Regression)
+    }
+
+    fn simplicity(&self, _settings: &Settings) -> Vec<f64> {
+        Vec::new()
+    }
+
+    fn evaluate_family(
+        &self,
+        _task: Task,
+        _train: &TrainPart<'_>,
+        _queries: &[ArrayView2<'_, f64>],
+        family: &[Settings],
+    ) -> Vec<Result<Outcome, LearnError>> {
+        let _ = (SettingDefault::Int(0), SettingKind::Int { min: 0 });
+        family
+            .iter()
+            .map(|_| {
+                Err(LearnError::Data {
+                    learner: "ridge",
+                    message: "not built yet".into(),
+                })
+            })
+            .collect()
+    }
+}

@@ -1,0 +1,1 @@
+//! Plans: the TOML file as written, validated, and resolved. (Being built.)

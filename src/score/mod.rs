@@ -1,0 +1,5 @@
+//! Metrics: how well predictions match the truth on one part.
+
+mod metric;
+
+pub use metric::{Metric, ScoreError, score};
