@@ -1,8 +1,52 @@
-//! The command line: argument parsing and printing only. (Being built.)
+//! The command line: argument parsing and printing only. Each command turns
+//! its options into calls of the library and prints the result, as text for
+//! people or, with `--json`, as one JSON object for machines.
 
+mod args;
+mod check;
+mod error;
+
+use std::io::Write;
 use std::process::ExitCode;
+
+use clap::Parser;
+
+pub use args::Command;
+pub use error::CliError;
 
 /// Run the command line and return the process exit code.
 pub fn main() -> ExitCode {
-    ExitCode::from(crate::exit::SUCCESS)
+    let cli = match args::Cli::try_parse() {
+        Ok(cli) => cli,
+        Err(e) => {
+            let code = if e.use_stderr() {
+                crate::exit::USER
+            } else {
+                crate::exit::SUCCESS
+            };
+            let _ = e.print();
+            return ExitCode::from(code);
+        }
+    };
+    match run(cli.command.into()) {
+        Ok(()) => ExitCode::from(crate::exit::SUCCESS),
+        Err(e) => {
+            let _ = writeln!(std::io::stderr(), "error: {}", e.message);
+            ExitCode::from(e.code)
+        }
+    }
+}
+
+/// Carry out one command.
+pub fn run(command: Command) -> Result<(), CliError> {
+    match command {
+        Command::Check { plan, json } => check::check(&plan, json),
+        Command::Compile { plan, out } => check::compile(&plan, &out),
+        Command::Demo { dir, json } => check::demo(&dir, json),
+    }
+}
+
+/// Print a line to stdout, ignoring a closed pipe.
+pub(crate) fn out(text: &str) {
+    let _ = writeln!(std::io::stdout(), "{text}");
 }

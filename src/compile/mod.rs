@@ -1,1 +1,10 @@
-//! The job sheet: splits, candidates and jobs, content-hashed. (Being built.)
+//! The job sheet: the compiled, ordered list of the sealed partition, the
+//! development partition, the resampling splits, the candidates and one job
+//! per (split, candidate). Everything in it is content-hashed.
+
+mod job_sheet;
+
+pub use job_sheet::{
+    CompileError, FORMAT, Job, JobSheet, SheetCandidate, SheetData, SheetSplit, compile, facts,
+    job_key, partition,
+};

@@ -39,3 +39,8 @@ pub fn load(spec: &DataSpec) -> Result<Dataset, DataError> {
     let _ = Path::new(&spec.path);
     Err(DataError::NotBuilt(spec.path.display().to_string()))
 }
+
+/// Read only the header row of a data file.
+pub fn read_header(path: &Path) -> Result<Vec<String>, DataError> {
+    Err(DataError::NotBuilt(path.display().to_string()))
+}

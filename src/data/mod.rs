@@ -12,4 +12,4 @@ mod load;
 
 pub use dataset::{Dataset, FeatureKind, Target};
 pub use fingerprint::{Fingerprint, row_hash};
-pub use load::{DataError, DataSpec, load};
+pub use load::{DataError, DataSpec, load, read_header};

@@ -1,0 +1,155 @@
+//! `check`, `compile` and `demo`: the plan compiler's commands.
+
+use std::path::Path;
+
+use serde::Serialize;
+
+use crate::compile::{self, JobSheet};
+use crate::plan::{self, Resolved};
+use crate::resample::Role;
+
+use super::{CliError, out};
+
+/// What `check` reports, also its `--json` form.
+#[derive(Serialize)]
+pub struct CheckReport {
+    pub plan: String,
+    pub name: String,
+    pub plan_hash: String,
+    pub data: DataReport,
+    pub sealed_rows: usize,
+    pub development_rows: usize,
+    pub splits: usize,
+    pub inner_splits: usize,
+    pub candidates: usize,
+    pub reference_candidates: usize,
+    pub jobs: usize,
+    pub warnings: Vec<String>,
+}
+
+#[derive(Serialize)]
+pub struct DataReport {
+    pub path: String,
+    pub fingerprint: String,
+    pub rows: usize,
+    pub features: usize,
+    pub missing_cells: usize,
+}
+
+/// Resolve and compile the plan at `path`.
+pub fn load(path: &Path) -> Result<(Resolved, JobSheet), CliError> {
+    let resolved = plan::resolve_file(path)?;
+    let sheet = compile::compile(&resolved)?;
+    Ok((resolved, sheet))
+}
+
+fn report(path: &Path, r: &Resolved, sheet: &JobSheet) -> CheckReport {
+    let reference = sheet.candidates.iter().filter(|c| c.reference).count();
+    CheckReport {
+        plan: path.display().to_string(),
+        name: r.plan.plan.name.clone(),
+        plan_hash: r.hash.clone(),
+        data: DataReport {
+            path: r.data_path.display().to_string(),
+            fingerprint: r.plan.data.file_hash.clone(),
+            rows: r.data.rows(),
+            features: r.data.feature_names.len(),
+            missing_cells: r.data.missing_cells,
+        },
+        sealed_rows: sheet.sealed.len(),
+        development_rows: sheet.development.len(),
+        splits: sheet.outer_splits().count(),
+        inner_splits: sheet
+            .splits
+            .iter()
+            .filter(|s| s.role == Role::Inner)
+            .count(),
+        candidates: sheet.candidates.len() - reference,
+        reference_candidates: reference,
+        jobs: sheet.jobs.len(),
+        warnings: Vec::new(),
+    }
+}
+
+fn print_report(c: &CheckReport) {
+    let share = 100.0 * c.sealed_rows as f64 / c.data.rows.max(1) as f64;
+    out(&format!("plan         {} ({})", c.name, c.plan));
+    out(&format!("plan hash    {}", c.plan_hash));
+    out(&format!(
+        "data         {}, {} rows, {} features",
+        c.data.path, c.data.rows, c.data.features
+    ));
+    out(&format!("fingerprint  {}", c.data.fingerprint));
+    if c.data.missing_cells > 0 {
+        out(&format!(
+            "missing      {} cells (imputed inside each training part)",
+            c.data.missing_cells
+        ));
+    }
+    out(&format!(
+        "sealed       {} rows ({share:.1}%), not seen until unseal",
+        c.sealed_rows
+    ));
+    out(&format!("development  {} rows", c.development_rows));
+    if c.inner_splits > 0 {
+        out(&format!(
+            "splits       {} outer, {} inner",
+            c.splits, c.inner_splits
+        ));
+    } else {
+        out(&format!("splits       {}", c.splits));
+    }
+    let reference = if c.reference_candidates > 0 {
+        " (+ baseline, for reference)"
+    } else {
+        ""
+    };
+    out(&format!("candidates   {}{reference}", c.candidates));
+    out(&format!("jobs         {}", c.jobs));
+    for w in &c.warnings {
+        out(&format!("warning: {w}"));
+    }
+}
+
+/// `holdfast check PLAN`.
+pub fn check(path: &Path, json: bool) -> Result<(), CliError> {
+    let (resolved, sheet) = load(path)?;
+    let report = report(path, &resolved, &sheet);
+    if json {
+        out(&crate::canon::canonical_json(&report)?);
+    } else {
+        print_report(&report);
+    }
+    Ok(())
+}
+
+/// `holdfast compile PLAN --out FILE`.
+pub fn compile(path: &Path, target: &Path) -> Result<(), CliError> {
+    let (_, sheet) = load(path)?;
+    let mut text = sheet.canonical_json();
+    text.push('\n');
+    std::fs::write(target, text).map_err(|e| {
+        CliError::user(format!(
+            "failed to write job sheet {}: {e}; check the folder exists and is writable",
+            target.display()
+        ))
+    })?;
+    out(&format!(
+        "wrote job sheet {} ({} splits, {} jobs)",
+        target.display(),
+        sheet.splits.len(),
+        sheet.jobs.len()
+    ));
+    Ok(())
+}
+
+/// `holdfast demo`: for now, write the data and plan and check the plan.
+pub fn demo(dir: &Path, json: bool) -> Result<(), CliError> {
+    let plan = crate::demo::write(dir).map_err(|e| {
+        CliError::user(format!(
+            "failed to write the demo into {}: {e}",
+            dir.display()
+        ))
+    })?;
+    check(&plan, json)
+}

@@ -1,0 +1,189 @@
+//! Fitting candidates on one training part and scoring them on other parts.
+//!
+//! This is the one place where rows become matrices for learners: the
+//! preprocessing is fitted on the training rows only, then applied to the
+//! evaluation rows; learners see nothing but these two matrices, so rows
+//! outside them (the sealed partition during selection) cannot reach a
+//! learner.
+
+use std::collections::BTreeMap;
+
+use ndarray::{Array2, Axis};
+
+use crate::data::{Dataset, Target};
+use crate::learn::{self, Note, Predictions, Settings, Targets, Task, TrainPart};
+use crate::prep::{PrepSpec, Transform};
+use crate::score::{self, Metric};
+
+/// What one evaluation needs.
+pub struct FitInput<'a> {
+    pub data: &'a Dataset,
+    pub task: Task,
+    pub prep: PrepSpec,
+    /// Training rows (file row indices, may repeat).
+    pub train: &'a [u32],
+    /// Rows to score the fitted candidates on.
+    pub evaluate: &'a [u32],
+    /// Also score the training part (for the validation curve).
+    pub training_scores: bool,
+}
+
+/// One candidate's scores.
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct Scored {
+    /// Metric name to value on the evaluation rows.
+    pub scores: BTreeMap<String, f64>,
+    /// Metric name to value on the training rows (when asked).
+    pub training: BTreeMap<String, f64>,
+    /// Metric name to why it has no value.
+    pub undefined: BTreeMap<String, String>,
+    pub note: Note,
+    /// Why the candidate could not be fitted at all.
+    pub failed: Option<String>,
+    /// Predictions on the evaluation rows (kept for intervals at unseal).
+    pub predictions: Option<Predictions>,
+}
+
+fn rows_of(data: &Dataset, rows: &[u32]) -> Array2<f64> {
+    let idx: Vec<usize> = rows.iter().map(|&r| r as usize).collect();
+    data.features.select(Axis(0), &idx)
+}
+
+/// Targets of `rows`, owned.
+pub enum OwnedTargets {
+    Classes(Vec<u32>),
+    Values(Vec<f64>),
+}
+
+impl OwnedTargets {
+    pub fn of(data: &Dataset, rows: &[u32]) -> OwnedTargets {
+        match &data.target {
+            Target::Classes { codes, .. } => {
+                OwnedTargets::Classes(rows.iter().map(|&r| codes[r as usize]).collect())
+            }
+            Target::Values(v) => {
+                OwnedTargets::Values(rows.iter().map(|&r| v[r as usize]).collect())
+            }
+        }
+    }
+    pub fn view(&self) -> Targets<'_> {
+        match self {
+            OwnedTargets::Classes(c) => Targets::Classes(c),
+            OwnedTargets::Values(v) => Targets::Values(v),
+        }
+    }
+}
+
+fn score_all(
+    task: Task,
+    truth: Targets<'_>,
+    pred: &Predictions,
+    into: &mut BTreeMap<String, f64>,
+    undefined: &mut BTreeMap<String, String>,
+) {
+    for &m in Metric::for_task(task) {
+        match score::score(m, truth, pred) {
+            Ok(v) if v.is_finite() => {
+                into.insert(m.name().to_string(), v);
+            }
+            Ok(_) => {
+                undefined.insert(m.name().to_string(), "the value is not finite".into());
+            }
+            Err(e) => {
+                undefined.insert(m.name().to_string(), e.to_string());
+            }
+        }
+    }
+}
+
+fn failed(message: String) -> Scored {
+    Scored {
+        failed: Some(message),
+        ..Scored::default()
+    }
+}
+
+/// Fit every candidate (learner name, settings) on `input.train` and score
+/// it on `input.evaluate`. Candidates of one learner share one family
+/// evaluation. Results are in the order given.
+pub fn evaluate_candidates(input: &FitInput<'_>, candidates: &[(&str, &Settings)]) -> Vec<Scored> {
+    let kinds = &input.data.feature_kinds;
+    let train_raw = rows_of(input.data, input.train);
+    let transform = match Transform::fit(input.prep, kinds, train_raw.view()) {
+        Ok(t) => t,
+        Err(e) => return candidates.iter().map(|_| failed(e.to_string())).collect(),
+    };
+    let train_x = transform.apply(train_raw.view());
+    let eval_x = transform.apply(rows_of(input.data, input.evaluate).view());
+    let train_y = OwnedTargets::of(input.data, input.train);
+    let eval_y = OwnedTargets::of(input.data, input.evaluate);
+    let part = TrainPart {
+        x: train_x.view(),
+        y: train_y.view(),
+    };
+    let mut queries = vec![eval_x.view()];
+    if input.training_scores {
+        queries.push(train_x.view());
+    }
+    let mut out: Vec<Option<Scored>> = vec![None; candidates.len()];
+    let mut learners: Vec<&str> = candidates.iter().map(|(l, _)| *l).collect();
+    learners.dedup();
+    learners.sort();
+    learners.dedup();
+    for name in learners {
+        let Some(learner) = learn::by_name(name) else {
+            for (i, (l, _)) in candidates.iter().enumerate() {
+                if *l == name {
+                    out[i] = Some(failed(format!("unknown learner {name}")));
+                }
+            }
+            continue;
+        };
+        let members: Vec<usize> = (0..candidates.len())
+            .filter(|&i| candidates[i].0 == name)
+            .collect();
+        let family: Vec<Settings> = members.iter().map(|&i| candidates[i].1.clone()).collect();
+        let outcomes = learner.evaluate_family(input.task, &part, &queries, &family);
+        for (&i, outcome) in members.iter().zip(outcomes) {
+            out[i] = Some(match outcome {
+                Err(e) => failed(e.to_string()),
+                Ok(o) => scored(input, &eval_y, &train_y, o),
+            });
+        }
+    }
+    out.into_iter().map(Option::unwrap_or_default).collect()
+}
+
+fn scored(
+    input: &FitInput<'_>,
+    eval_y: &OwnedTargets,
+    train_y: &OwnedTargets,
+    o: learn::Outcome,
+) -> Scored {
+    let mut s = Scored {
+        note: o.note,
+        ..Scored::default()
+    };
+    let mut preds = o.predictions.into_iter();
+    if let Some(p) = preds.next() {
+        score_all(
+            input.task,
+            eval_y.view(),
+            &p,
+            &mut s.scores,
+            &mut s.undefined,
+        );
+        s.predictions = Some(p);
+    }
+    if let Some(p) = preds.next() {
+        let mut ignored = BTreeMap::new();
+        score_all(
+            input.task,
+            train_y.view(),
+            &p,
+            &mut s.training,
+            &mut ignored,
+        );
+    }
+    s
+}

@@ -1,0 +1,156 @@
+//! Running the jobs of a job sheet in parallel, split by split.
+//!
+//! Invariants: results come back in job order whatever the completion order;
+//! jobs already recorded (by job id) are not run again; results are handed to
+//! the caller a batch at a time so that a killed run keeps what it finished.
+
+use std::collections::BTreeMap;
+use std::time::Instant;
+
+use rayon::prelude::*;
+use serde::{Deserialize, Serialize};
+
+use crate::compile::{JobSheet, SheetSplit};
+use crate::learn::{Note, Settings};
+use crate::plan::Resolved;
+
+use super::evaluate::{FitInput, evaluate_candidates};
+
+/// A job's recorded result: what is hashed. Timings are kept outside it.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct JobResult {
+    pub id: String,
+    pub split: String,
+    pub candidate: String,
+    /// Metric name to value on the validation part.
+    pub scores: BTreeMap<String, f64>,
+    /// Metric name to value on the training part.
+    #[serde(default, skip_serializing_if = "BTreeMap::is_empty")]
+    pub training: BTreeMap<String, f64>,
+    /// Metric name to why it has no value.
+    #[serde(default, skip_serializing_if = "BTreeMap::is_empty")]
+    pub undefined: BTreeMap<String, String>,
+    #[serde(default)]
+    pub note: NoteRecord,
+    /// Why the candidate could not be fitted.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub failed: Option<String>,
+}
+
+/// A learner's note as recorded.
+#[derive(Clone, Debug, Default, PartialEq, Serialize, Deserialize)]
+pub struct NoteRecord {
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub converged: Option<bool>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub active_features: Option<usize>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub remark: Option<String>,
+}
+
+impl From<Note> for NoteRecord {
+    fn from(n: Note) -> NoteRecord {
+        NoteRecord {
+            converged: n.converged,
+            active_features: n.active_features,
+            remark: n.remark,
+        }
+    }
+}
+
+/// Progress callbacks of a run.
+pub trait RunProgress: Sync {
+    /// `done` more jobs finished (fresh, not reused).
+    fn advance(&self, done: usize);
+    /// A batch of fresh results with their fit seconds, in job order; store it.
+    fn store(&self, batch: &[(JobResult, f64)]);
+}
+
+fn run_split(
+    r: &Resolved,
+    sheet: &JobSheet,
+    split: &SheetSplit,
+    todo: &[usize],
+) -> Vec<(usize, JobResult, f64)> {
+    let started = Instant::now();
+    let cands: Vec<(&str, &Settings)> = todo
+        .iter()
+        .map(|&j| {
+            let c = sheet.candidate(&sheet.jobs[j].candidate);
+            c.map_or(("", &EMPTY), |c| (c.learner.as_str(), &c.settings))
+        })
+        .collect();
+    let input = FitInput {
+        data: &r.data,
+        task: r.plan.task(),
+        prep: r.plan.prep,
+        train: &split.train,
+        evaluate: &split.validation,
+        training_scores: r.plan.select.training_scores,
+    };
+    let scored = evaluate_candidates(&input, &cands);
+    let seconds = started.elapsed().as_secs_f64() / todo.len().max(1) as f64;
+    todo.iter()
+        .zip(scored)
+        .map(|(&j, s)| {
+            let job = &sheet.jobs[j];
+            let result = JobResult {
+                id: job.id.clone(),
+                split: job.split.clone(),
+                candidate: job.candidate.clone(),
+                scores: s.scores,
+                training: s.training,
+                undefined: s.undefined,
+                note: s.note.into(),
+                failed: s.failed,
+            };
+            (j, result, seconds)
+        })
+        .collect()
+}
+
+static EMPTY: Settings = Settings::new();
+
+/// Run every job of `sheet` not in `cached`, in parallel over splits, and
+/// return all results in job order (cached ones included).
+pub fn run_jobs(
+    r: &Resolved,
+    sheet: &JobSheet,
+    cached: &BTreeMap<String, JobResult>,
+    progress: &dyn RunProgress,
+) -> Vec<JobResult> {
+    let mut by_split: BTreeMap<&str, Vec<usize>> = BTreeMap::new();
+    for (j, job) in sheet.jobs.iter().enumerate() {
+        if !cached.contains_key(&job.id) {
+            by_split.entry(job.split.as_str()).or_default().push(j);
+        }
+    }
+    let work: Vec<(&SheetSplit, Vec<usize>)> = sheet
+        .splits
+        .iter()
+        .filter_map(|s| by_split.remove(s.id.as_str()).map(|todo| (s, todo)))
+        .collect();
+    let mut fresh: BTreeMap<usize, JobResult> = BTreeMap::new();
+    let batch = (rayon::current_num_threads() * 2).max(2);
+    for chunk in work.chunks(batch) {
+        let mut done: Vec<(usize, JobResult, f64)> = chunk
+            .par_iter()
+            .flat_map_iter(|(split, todo)| {
+                let out = run_split(r, sheet, split, todo);
+                progress.advance(out.len());
+                out
+            })
+            .collect();
+        done.sort_by_key(|(j, _, _)| *j);
+        let stored: Vec<(JobResult, f64)> =
+            done.iter().map(|(_, res, s)| (res.clone(), *s)).collect();
+        progress.store(&stored);
+        fresh.extend(done.into_iter().map(|(j, res, _)| (j, res)));
+    }
+    sheet
+        .jobs
+        .iter()
+        .enumerate()
+        .filter_map(|(j, job)| cached.get(&job.id).cloned().or_else(|| fresh.remove(&j)))
+        .collect()
+}
