@@ -63,7 +63,13 @@ fn convert(spec: &SettingSpec, learner: &str, value: &Scalar) -> Result<SettingV
                 .map(|w| format!("\"{w}\""))
                 .collect::<Vec<_>>()
                 .join(", ");
-            Err(format!("{learner}: {name} must be one of {all}"))
+            let hint = match value {
+                Scalar::Text(t) => super::reader::suggest(t, words)
+                    .map(|w| format!("; did you mean `{w}`?"))
+                    .unwrap_or_default(),
+                _ => String::new(),
+            };
+            Err(format!("{learner}: {name} must be one of {all}{hint}"))
         }
     }
 }

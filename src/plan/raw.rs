@@ -487,3 +487,137 @@ fn range(t: &toml_edit::InlineTable) -> Result<SettingInput, String> {
         log,
     })
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    const GOOD: &str = r#"
+[plan]
+name = "t"
+seed = 7
+
+[data]
+path = "d.csv"
+target = "y"
+
+[[candidates]]
+learner = "nearest-neighbors"
+k = [1, 3]
+"#;
+
+    fn problems(text: &str) -> Vec<String> {
+        match parse(Path::new("p.toml"), text) {
+            Ok(parsed) => parsed
+                .raw
+                .candidates
+                .iter()
+                .filter_map(|b| {
+                    crate::learn::by_name(&b.learner).map(|l| super::super::grid::expand(l, b))
+                })
+                .filter_map(Result::err)
+                .flatten()
+                .map(|p| p.message)
+                .collect(),
+            Err(e) => e
+                .problems
+                .iter()
+                .map(|p| {
+                    let at = p
+                        .place
+                        .map(|a| format!("{}:{}: ", a.line, a.column))
+                        .unwrap_or_default();
+                    format!("{at}{}", p.message)
+                })
+                .collect(),
+        }
+    }
+
+    #[test]
+    fn a_good_plan_parses() {
+        let parsed = parse(Path::new("p.toml"), GOOD).unwrap();
+        assert_eq!(parsed.raw.seed, Some(7));
+        assert_eq!(parsed.raw.candidates.len(), 1);
+        assert_eq!(parsed.raw.candidates[0].settings[0].0, "k");
+    }
+
+    #[test]
+    fn each_mistake_is_reported_with_its_place() {
+        // (edit applied to GOOD, expected fragment of the one problem)
+        let cases = [
+            (
+                ("seed = 7", "sead = 7"),
+                "4:1: unknown key `sead` in [plan]; did you mean `seed`?",
+            ),
+            (
+                ("seed = 7", "seed = \"seven\""),
+                "4:8: [plan] seed must be a whole number, found string",
+            ),
+            (
+                ("k = [1, 3]", "k = { from = 1, to = 9, steps = 0 }"),
+                "steps = 0; steps must be at least 1",
+            ),
+            (
+                ("k = [1, 3]", "kk = 3"),
+                "unknown key `kk` in [[candidates] nearest-neighbors]; did you mean `k`?",
+            ),
+            (("k = [1, 3]", "vote = \"equals\""), "did you mean `equal`?"),
+            (
+                ("[data]", "[seal]\nfraction = 1.5\n[data]"),
+                "[seal] fraction must be a fraction between 0 and 1",
+            ),
+            (
+                ("[data]", "[seal]\nfraction = 0.0\n[data]"),
+                "[seal] fraction must be a fraction between 0 and 1",
+            ),
+            (
+                (
+                    "learner = \"nearest-neighbors\"",
+                    "learner = \"nearest-neighbours\"",
+                ),
+                "did you mean `nearest-neighbors`?",
+            ),
+            (
+                ("[plan]", "[plans]"),
+                "unknown table `plans`; did you mean `plan`?",
+            ),
+        ];
+        for ((from, to), want) in cases {
+            let text = GOOD.replace(from, to);
+            let got = problems(&text);
+            assert!(
+                got.iter().any(|p| p.contains(want)),
+                "edit {to:?}: wanted {want:?} in {got:?}"
+            );
+        }
+    }
+
+    #[test]
+    fn every_problem_is_reported_at_once() {
+        let text = GOOD
+            .replace("seed = 7", "sead = 7\nname2 = 1")
+            .replace("k = [1, 3]", "k = \"x\"");
+        assert_eq!(problems(&text).len(), 2, "{:?}", problems(&text));
+    }
+
+    #[test]
+    fn an_empty_candidate_list_is_an_error() {
+        let text = GOOD
+            .split("[[candidates]]")
+            .next()
+            .unwrap_or_default()
+            .to_string();
+        let got = problems(&text);
+        assert!(
+            got.iter().any(|p| p.contains("no [[candidates]]")),
+            "{got:?}"
+        );
+    }
+
+    #[test]
+    fn invalid_toml_names_the_place() {
+        let got = problems("[plan\nname = 1");
+        assert!(got[0].starts_with("1:"), "{got:?}");
+        assert!(got[0].contains("not valid TOML"), "{got:?}");
+    }
+}

@@ -71,10 +71,12 @@ impl<'t> Reader<'t> {
                 .map(|v| format!("`{v}`"))
                 .collect::<Vec<_>>()
                 .join(", ");
-            self.problem(
-                place,
-                format!("unknown key `{key}` in [{path}]{hint} (valid keys: {expected})"),
-            );
+            let message = if path.is_empty() {
+                format!("unknown table `{key}`{hint} (valid tables: {expected})")
+            } else {
+                format!("unknown key `{key}` in [{path}]{hint} (valid keys: {expected})")
+            };
+            self.problem(place, message);
         }
     }
 
