@@ -67,7 +67,7 @@ fn report(path: &Path, r: &Resolved, sheet: &JobSheet) -> CheckReport {
         candidates: sheet.candidates.len() - reference,
         reference_candidates: reference,
         jobs: sheet.jobs.len(),
-        warnings: Vec::new(),
+        warnings: compile::warnings(r, sheet),
     }
 }
 

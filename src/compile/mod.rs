@@ -3,8 +3,10 @@
 //! per (split, candidate). Everything in it is content-hashed.
 
 mod job_sheet;
+mod warnings;
 
 pub use job_sheet::{
     CompileError, FORMAT, Job, JobSheet, SheetCandidate, SheetData, SheetSplit, compile, facts,
     job_key, partition,
 };
+pub use warnings::warnings;
