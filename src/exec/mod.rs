@@ -3,6 +3,10 @@
 
 mod evaluate;
 mod runner;
+mod selection;
 
 pub use evaluate::{FitInput, Scored, evaluate_candidates};
-pub use runner::{JobResult, RunProgress, run_jobs};
+pub use runner::{JobResult, NoteRecord, RunProgress, run_jobs};
+pub use selection::{
+    CandidateSummary, SelectError, SelectionResult, partition_id, row_hashes, select,
+};

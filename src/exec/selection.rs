@@ -1,0 +1,285 @@
+//! Selection: summarising job results per candidate and applying the
+//! plan's `[select]` rule. The [`SelectionResult`] is what a selection entry
+//! records and what its result hash covers.
+//!
+//! Invariants: built only from the job sheet and job results in job order,
+//! so a resumed run and an uninterrupted one give the same bytes; timings
+//! and reuse counts are not part of it. A candidate is eligible only when it
+//! has a score on every split (so that every mean covers the same splits);
+//! the reference baseline is summarised but never chosen.
+
+use std::collections::BTreeMap;
+
+use serde::Serialize;
+
+use crate::compile::JobSheet;
+use crate::learn::{self, Settings};
+use crate::plan::Resolved;
+use crate::resample::Role;
+use crate::stats::{self, CandidateFacts, Direction, Rule, ScoreTable};
+
+use super::runner::JobResult;
+
+/// Version of the selection result's layout.
+pub const FORMAT: u32 = 1;
+
+/// One candidate's scores over the splits.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct CandidateSummary {
+    pub id: String,
+    pub label: String,
+    pub learner: String,
+    pub settings: Settings,
+    pub reference: bool,
+    /// Splits with a score for the selection metric.
+    pub scored_splits: usize,
+    pub mean: Option<f64>,
+    pub sd: Option<f64>,
+    pub se: Option<f64>,
+    /// Mean over splits of the training-part score.
+    pub training_mean: Option<f64>,
+    /// Whether the rule could choose it.
+    pub eligible: bool,
+    /// Why it is not eligible, in words.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub why_not: Option<String>,
+    /// Splits on which the fit did not converge.
+    pub not_converged: usize,
+    /// Active features per split (shrunken centroids), in split order.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub active_features: Vec<usize>,
+}
+
+/// What a selection entry records.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct SelectionResult {
+    pub format: u32,
+    pub plan_hash: String,
+    pub data_file: String,
+    /// The sealed partition's id.
+    pub partition: String,
+    pub sealed_rows: usize,
+    pub development_rows: usize,
+    pub metric: String,
+    pub larger_is_better: bool,
+    pub rule: String,
+    pub splits: usize,
+    /// The chosen candidate's id.
+    pub chosen: String,
+    pub chosen_label: String,
+    /// The candidate with the best mean.
+    pub best: String,
+    pub standard_error: Option<f64>,
+    pub threshold: Option<f64>,
+    /// In candidate order.
+    pub candidates: Vec<CandidateSummary>,
+    /// Every job, in job order.
+    pub jobs: Vec<JobResult>,
+}
+
+/// Why no candidate could be chosen.
+#[derive(Debug, thiserror::Error)]
+pub enum SelectError {
+    #[error("no candidate has a {metric} score on every split, so none can be chosen: {why}")]
+    NoneEligible { metric: String, why: String },
+    #[error("selection failed: {0}")]
+    Stats(#[from] stats::StatsError),
+}
+
+/// The id of a sealed partition: BLAKE3 of the data file's hash and the
+/// sealed rows' content hashes, sorted (so the same rows, found again in a
+/// re-ordered file, are the same partition).
+pub fn partition_id(data_file: &str, sealed_row_hashes: &[String]) -> String {
+    let mut rows = sealed_row_hashes.to_vec();
+    rows.sort();
+    crate::canon::hash_canonical(&(data_file, rows)).unwrap_or_default()
+}
+
+/// Content hashes of `rows` of the plan's data.
+pub fn row_hashes(r: &Resolved, rows: &[u32]) -> Vec<String> {
+    rows.iter()
+        .map(|&i| r.data.fingerprint.rows[i as usize].clone())
+        .collect()
+}
+
+fn summarise(
+    sheet: &JobSheet,
+    results: &[JobResult],
+    metric: &str,
+    splits: &[&str],
+) -> Vec<CandidateSummary> {
+    let mut by_candidate: BTreeMap<&str, Vec<&JobResult>> = BTreeMap::new();
+    for res in results {
+        if splits.contains(&res.split.as_str()) {
+            by_candidate
+                .entry(res.candidate.as_str())
+                .or_default()
+                .push(res);
+        }
+    }
+    sheet
+        .candidates
+        .iter()
+        .map(|c| {
+            let jobs = by_candidate.get(c.id.as_str()).cloned().unwrap_or_default();
+            let values: Vec<f64> = jobs
+                .iter()
+                .filter_map(|j| j.scores.get(metric).copied())
+                .collect();
+            let training: Vec<f64> = jobs
+                .iter()
+                .filter_map(|j| j.training.get(metric).copied())
+                .collect();
+            let summary = stats::summarize(&values).ok();
+            let failed = jobs.iter().filter(|j| j.failed.is_some()).count();
+            let why_not = if c.reference {
+                Some("reference baseline, shown for comparison".to_string())
+            } else if failed > 0 {
+                let first = jobs
+                    .iter()
+                    .find_map(|j| j.failed.clone())
+                    .unwrap_or_default();
+                Some(format!("failed on {failed} split(s): {first}"))
+            } else if values.len() < splits.len() {
+                let reason = jobs
+                    .iter()
+                    .find_map(|j| j.undefined.get(metric).cloned())
+                    .unwrap_or_default();
+                Some(format!(
+                    "no score on {} split(s): {reason}",
+                    splits.len() - values.len()
+                ))
+            } else {
+                None
+            };
+            CandidateSummary {
+                id: c.id.clone(),
+                label: c.label.clone(),
+                learner: c.learner.clone(),
+                settings: c.settings.clone(),
+                reference: c.reference,
+                scored_splits: values.len(),
+                mean: summary.as_ref().map(|s| s.mean),
+                sd: summary.as_ref().and_then(|s| s.sd),
+                se: summary.as_ref().and_then(|s| s.se),
+                training_mean: stats::mean(&training).ok(),
+                eligible: why_not.is_none(),
+                why_not,
+                not_converged: jobs
+                    .iter()
+                    .filter(|j| j.note.converged == Some(false))
+                    .count(),
+                active_features: jobs.iter().filter_map(|j| j.note.active_features).collect(),
+            }
+        })
+        .collect()
+}
+
+/// The score table (splits x eligible candidates) and the eligible indices.
+fn table(
+    sheet: &JobSheet,
+    results: &[JobResult],
+    metric: &str,
+    splits: &[&str],
+    eligible: &[usize],
+) -> Vec<Vec<f64>> {
+    let mut cell: BTreeMap<(&str, &str), f64> = BTreeMap::new();
+    for res in results {
+        if let Some(v) = res.scores.get(metric) {
+            cell.insert((res.split.as_str(), res.candidate.as_str()), *v);
+        }
+    }
+    splits
+        .iter()
+        .map(|s| {
+            eligible
+                .iter()
+                .map(|&c| {
+                    cell.get(&(*s, sheet.candidates[c].id.as_str()))
+                        .copied()
+                        .unwrap_or(0.0)
+                })
+                .collect()
+        })
+        .collect()
+}
+
+/// Summarise `results` (all jobs of `sheet`, in job order) and apply the rule.
+pub fn select(
+    r: &Resolved,
+    sheet: &JobSheet,
+    results: Vec<JobResult>,
+) -> Result<SelectionResult, SelectError> {
+    let metric = r.plan.select.metric;
+    let name = metric.name();
+    let splits: Vec<&str> = sheet
+        .splits
+        .iter()
+        .filter(|s| s.role == Role::Outer)
+        .map(|s| s.id.as_str())
+        .collect();
+    let candidates = summarise(sheet, &results, name, &splits);
+    let eligible: Vec<usize> = (0..candidates.len())
+        .filter(|&i| candidates[i].eligible)
+        .collect();
+    if eligible.is_empty() {
+        let why = candidates
+            .iter()
+            .filter_map(|c| c.why_not.clone().map(|w| format!("{}: {w}", c.label)))
+            .collect::<Vec<_>>();
+        return Err(SelectError::NoneEligible {
+            metric: name.to_string(),
+            why: why.join("; "),
+        });
+    }
+    let rows = table(sheet, &results, name, &splits, &eligible);
+    let direction = Direction::from_larger_is_better(metric.larger_is_better());
+    let learners: Vec<u32> = eligible
+        .iter()
+        .map(|&i| {
+            learn::all()
+                .iter()
+                .position(|l| l.name() == candidates[i].learner)
+                .unwrap_or(0) as u32
+        })
+        .collect();
+    let simplicity: Vec<Vec<f64>> = eligible
+        .iter()
+        .map(|&i| {
+            learn::by_name(&candidates[i].learner)
+                .map(|l| l.simplicity(&candidates[i].settings))
+                .unwrap_or_default()
+        })
+        .collect();
+    let rule = if r.plan.select.rule == "one-standard-error" {
+        Rule::OneStandardError
+    } else {
+        Rule::Best
+    };
+    let facts = CandidateFacts {
+        learners: &learners,
+        simplicity: &simplicity,
+    };
+    let choice = stats::select(&ScoreTable::from_rows(&rows)?, direction, rule, facts)?;
+    let (chosen, best) = (eligible[choice.chosen], eligible[choice.best]);
+    let sealed_hashes = row_hashes(r, &sheet.sealed);
+    Ok(SelectionResult {
+        format: FORMAT,
+        plan_hash: r.hash.clone(),
+        data_file: r.plan.data.file_hash.clone(),
+        partition: partition_id(&r.plan.data.file_hash, &sealed_hashes),
+        sealed_rows: sheet.sealed.len(),
+        development_rows: sheet.development.len(),
+        metric: name.to_string(),
+        larger_is_better: metric.larger_is_better(),
+        rule: r.plan.select.rule.clone(),
+        splits: splits.len(),
+        chosen: candidates[chosen].id.clone(),
+        chosen_label: candidates[chosen].label.clone(),
+        best: candidates[best].id.clone(),
+        standard_error: choice.standard_error,
+        threshold: choice.threshold,
+        candidates,
+        jobs: results,
+    })
+}
