@@ -1,2 +1,15 @@
-//! The demo: an invented wind-turbine fleet, generated from a seed.
-//! (Being built.)
+//! The demo: an invented wind-turbine fleet, and benchmark inputs, both
+//! generated from a seed with portable draws so the bytes are the same on
+//! every machine.
+
+mod bench;
+mod random;
+mod turbines;
+
+#[cfg(test)]
+mod tests;
+
+pub use bench::{bench_csv, write_bench};
+pub use turbines::{
+    DEMO_HOURS, DEMO_SEED, DEMO_TURBINES, READING_EVERY_HOURS, TURBINE_COLUMNS, turbines_csv,
+};
