@@ -1,10 +1,17 @@
-//! The demo: an invented wind-turbine fleet, generated from a seed, and the
-//! plan that goes with it. (The generator is being built.)
+//! The demo: an invented wind-turbine fleet, and benchmark inputs, both
+//! generated from a seed with portable draws so the bytes are the same on
+//! every machine.
 
-use std::path::{Path, PathBuf};
+mod bench;
+mod files;
+mod random;
+mod turbines;
 
-/// Write the demo data and plan into `dir`; returns the plan's path.
-pub fn write(dir: &Path) -> std::io::Result<PathBuf> {
-    std::fs::create_dir_all(dir)?;
-    Ok(dir.join("plan.toml"))
-}
+#[cfg(test)]
+mod tests;
+
+pub use bench::{bench_csv, write_bench};
+pub use files::{DATA_FILE, PLAN, plan_text, readings, write};
+pub use turbines::{
+    DEMO_HOURS, DEMO_SEED, DEMO_TURBINES, READING_EVERY_HOURS, TURBINE_COLUMNS, turbines_csv,
+};
