@@ -76,8 +76,3 @@ fn read_rows(
 fn line_count(body: &[u8]) -> usize {
     body.iter().filter(|&&b| b == b'\n').count() + 1
 }
-
-/// Read only the header row of a data file.
-pub fn read_header(path: &Path) -> Result<Vec<String>, DataError> {
-    Err(DataError::NotBuilt(path.display().to_string()))
-}

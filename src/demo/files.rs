@@ -31,3 +31,31 @@ pub fn write(dir: &Path) -> std::io::Result<PathBuf> {
     std::fs::write(&plan, plan_text())?;
     Ok(plan)
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// The committed example data is exactly what the generator makes, so the
+    /// plans under `plans/` and `holdfast demo` see the same bytes. Set
+    /// `HOLDFAST_WRITE_EXAMPLES=1` to rewrite it after changing the generator.
+    #[test]
+    fn the_committed_example_data_is_the_generated_data() {
+        let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("examples/turbines/readings.csv");
+        if std::env::var_os("HOLDFAST_WRITE_EXAMPLES").is_some() {
+            std::fs::write(&path, readings()).expect("write examples/turbines/readings.csv");
+        }
+        let committed =
+            std::fs::read_to_string(&path).expect("examples/turbines/readings.csv is committed");
+        assert!(
+            committed == readings(),
+            "examples/turbines/readings.csv differs from the generator's output"
+        );
+    }
+
+    #[test]
+    fn the_demo_plan_points_at_the_file_beside_it() {
+        assert!(PLAN.contains(PLAN_DATA_PATH));
+        assert!(plan_text().contains("path = \"readings.csv\""));
+    }
+}
