@@ -295,6 +295,50 @@ fn split_exponent(x: f64) -> (f64, i32) {
     (m, e)
 }
 
+/// Test data readers shared by the learners' tests.
+#[cfg(test)]
+pub(in crate::learn) mod testdata {
+    use std::path::Path;
+
+    use ndarray::Array2;
+
+    /// Rows of tests/data/penguins.csv with all of `features` and `target`
+    /// present; target codes in sorted label order (as the data loader codes them).
+    pub(in crate::learn) fn penguins(
+        target: &str,
+        features: &[&str],
+    ) -> (Array2<f64>, Vec<u32>, Vec<String>) {
+        let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/penguins.csv");
+        let mut reader = csv::Reader::from_path(path).expect("tests/data/penguins.csv is readable");
+        let header = reader.headers().expect("a header").clone();
+        let col = |name: &str| header.iter().position(|h| h == name).expect("a column");
+        let (t, fs): (usize, Vec<usize>) = (col(target), features.iter().map(|f| col(f)).collect());
+        let mut x = Vec::new();
+        let mut labels = Vec::new();
+        for record in reader.records() {
+            let r = record.expect("a record");
+            if r[t] == *"NA" || fs.iter().any(|&j| r[j] == *"NA") {
+                continue;
+            }
+            labels.push(r[t].to_string());
+            x.extend(fs.iter().map(|&j| r[j].parse::<f64>().expect("a number")));
+        }
+        let mut names = labels.clone();
+        names.sort();
+        names.dedup();
+        let codes = labels
+            .iter()
+            .map(|l| names.iter().position(|n| n == l).unwrap_or(0) as u32)
+            .collect();
+        let n = labels.len();
+        (
+            Array2::from_shape_vec((n, fs.len()), x).expect("a matrix"),
+            codes,
+            names,
+        )
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
