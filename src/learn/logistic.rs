@@ -32,14 +32,16 @@
 //! optimum of minimum norm in the standardised coordinates instead of
 //! failing; the note says so.
 //!
-//! Convergence (in the standardised coordinates): the largest Newton step
-//! component is at most `1e-10 * (1 + max |parameter|)`, or it is at most
-//! `1.5e-8 * (1 + max |parameter|)` and the objective cannot resolve it (the
-//! full step does not lower it; the step is taken: it is either the last
-//! quadratic step or rounding noise of an ill-conditioned problem); the cap is
-//! 100 iterations. The step criterion (not the Newton decrement, which also
-//! tends to zero along a diverging direction) is what makes separation show:
-//! with separable classes and `lambda = 0` the steps stay near 1 while the
+//! Convergence (in the standardised coordinates, relative to
+//! `1 + max |parameter|`): once the Newton step is at most `1e-5` the full
+//! step is taken without a line search (the objective, a sum of `n` rounded
+//! terms, cannot resolve such small decreases, and Newton steps are accurate
+//! there); the fit has converged when a step is at most `1e-10`, or when a
+//! step in that region fails to halve the previous one (the rounding floor of
+//! an ill-conditioned problem). Larger steps use step halving. The cap is 100
+//! iterations. Step size, not the Newton decrement (which also tends to zero
+//! along a diverging direction), is what makes separation show: with
+//! separable classes and `lambda = 0` the steps stay near 1 while the
 //! coefficients grow. A fit that hits the cap, or whose step halving finds no
 //! decrease, is reported with `converged = Some(false)` and a remark; its last
 //! iterate still predicts. Every outcome sets `converged`.
@@ -69,10 +71,10 @@ pub struct Logistic;
 const NAME: &str = "logistic";
 const MAX_ITERATIONS: usize = 100;
 const MAX_HALVINGS: usize = 40;
+/// Converged when the largest step is at most this, relative to `1 + max |parameter|`.
 const STEP_TOLERANCE: f64 = 1e-10;
-/// About `sqrt(f64::EPSILON)`: a step this small that cannot lower the
-/// objective is rounding noise (ill-conditioned Hessian), not progress.
-const FLOOR_TOLERANCE: f64 = 1.5e-8;
+/// Relative steps at most this are taken whole (see `fit`).
+const QUADRATIC_REGION: f64 = 1e-5;
 
 const SETTINGS: &[SettingSpec] = &[SettingSpec {
     name: "lambda",
@@ -246,6 +248,7 @@ impl<'a> Prepared<'a> {
             return fit;
         }
         let mut f = self.objective(&fit.theta, lambda);
+        let mut previous_small: Option<f64> = None;
         while fit.iterations < MAX_ITERATIONS {
             fit.iterations += 1;
             let (g, h) = self.gradient_hessian(&fit.theta, lambda);
@@ -256,23 +259,23 @@ impl<'a> Prepared<'a> {
             fit.rank_deficient = svd.rank() < g.len();
             let step = svd.apply(&g, |s| 1.0 / s);
             let largest_step = step.iter().fold(0.0_f64, |m, v| m.max(v.abs()));
-            let largest_theta = fit.theta.iter().fold(0.0_f64, |m, v| m.max(v.abs()));
-            if largest_step <= STEP_TOLERANCE * (1.0 + largest_theta) {
+            let size = largest_step / (1.0 + fit.theta.iter().fold(0.0_f64, |m, v| m.max(v.abs())));
+            if size <= QUADRATIC_REGION {
+                // Full Newton steps, no line search: the objective (a sum of
+                // n rounded terms) cannot resolve decreases this small, and
+                // the step is accurate here. Stop when the step is tiny, or
+                // when it no longer halves (the rounding floor).
                 fit.theta = axpy(&fit.theta, -1.0, &step);
-                fit.converged = true;
-                return fit;
+                let floor = previous_small.is_some_and(|p| size > p / 2.0);
+                if size <= STEP_TOLERANCE || floor {
+                    fit.converged = true;
+                    return fit;
+                }
+                previous_small = Some(size);
+                f = self.objective(&fit.theta, lambda);
+                continue;
             }
-            let full = axpy(&fit.theta, -1.0, &step);
-            if largest_step <= FLOOR_TOLERANCE * (1.0 + largest_theta)
-                && self.objective(&full, lambda) >= f
-            {
-                // The objective can no longer resolve the step: either the
-                // last quadratic step (take it) or rounding noise of an
-                // ill-conditioned problem (harmless to take).
-                fit.theta = full;
-                fit.converged = true;
-                return fit;
-            }
+            previous_small = None;
             match self.halve(&fit.theta, &step, f, lambda) {
                 Some((theta, f_new)) => (fit.theta, f) = (theta, f_new),
                 None => {
@@ -345,13 +348,17 @@ impl<'a> Prepared<'a> {
         sum
     }
 
-    /// Gradient and row-major Hessian of the objective at `theta`.
+    /// Gradient and row-major Hessian of the objective at `theta`. Only the
+    /// upper triangle is accumulated and then mirrored; each entry is
+    /// `w_kl * (z_a * z_b)` with `w_kl = w_lk` bit for bit, so the mirror is
+    /// what the lower triangle would have summed.
     fn gradient_hessian(&self, theta: &[f64], lambda: f64) -> (Vec<f64>, Vec<f64>) {
         let (q, d) = (self.others(), self.width());
         let dim = q * d;
         let mut g = vec![0.0; dim];
         let mut h = vec![0.0; dim * dim];
         let mut z = vec![1.0; d];
+        let mut w = vec![0.0; q * q];
         for i in 0..self.n() {
             z[1..].copy_from_slice(self.row(i));
             let pi = softmax(&self.logits(theta, &z[1..]));
@@ -361,20 +368,27 @@ impl<'a> Prepared<'a> {
                     g[k * d + a] += r * z[a];
                 }
                 for l in 0..q {
-                    let w = pi[k + 1] * (if k == l { 1.0 } else { 0.0 } - pi[l + 1]);
-                    for a in 0..d {
-                        for b in 0..d {
-                            h[(k * d + a) * dim + l * d + b] += w * (z[a] * z[b]);
-                        }
-                    }
+                    w[k * q + l] = pi[k + 1] * (if k == l { 1.0 } else { 0.0 } - pi[l + 1]);
                 }
+            }
+            for u in 0..dim {
+                let (k, a) = (u / d, u % d);
+                for v in u..dim {
+                    let (l, b) = (v / d, v % d);
+                    h[u * dim + v] += w[k * q + l] * (z[a] * z[b]);
+                }
+            }
+        }
+        for u in 0..dim {
+            for v in 0..u {
+                h[u * dim + v] = h[v * dim + u];
             }
         }
         for k in 0..q {
             for (a, s) in (1..d).zip(&self.x_scale) {
-                let (at, w) = (k * d + a, lambda / (s * s));
-                g[at] += w * theta[at];
-                h[at * dim + at] += w;
+                let (at, pen) = (k * d + a, lambda / (s * s));
+                g[at] += pen * theta[at];
+                h[at * dim + at] += pen;
             }
         }
         (g, h)

@@ -356,3 +356,66 @@ fn bad_inputs_are_errors_not_panics() {
 fn a_larger_lambda_is_simpler() {
     assert!(Logistic.simplicity(&lambda(10.0)) > Logistic.simplicity(&lambda(0.1)));
 }
+
+#[test]
+fn no_features_gives_the_class_shares() {
+    // By definition: the intercept-only MLE reproduces the training shares.
+    let x = Array2::<f64>::zeros((6, 0));
+    let y = [0, 0, 1, 1, 1, 2];
+    let train = TrainPart {
+        x: x.view(),
+        y: Targets::Classes(&y),
+    };
+    let q = Array2::<f64>::zeros((1, 0));
+    let out = Logistic.evaluate_family(
+        Task::Classification { classes: 3 },
+        &train,
+        &[q.view()],
+        &[lambda(0.0)],
+    );
+    let o = out[0].as_ref().expect("fits");
+    let (labels, p) = classes_of(o, 0);
+    assert_eq!((labels, o.note.converged), (&[1][..], Some(true)));
+    for (got, want) in p.row(0).iter().zip([2.0 / 6.0, 3.0 / 6.0, 1.0 / 6.0]) {
+        assert!((got - want).abs() < 1e-14, "{got} vs {want}");
+    }
+}
+
+#[test]
+fn many_rows_converge_past_the_resolution_of_the_objective() {
+    // 5000 rows, 10 features, 4 classes: the objective (a sum of 5000 rounded
+    // terms) cannot resolve the last Newton steps; the fit must still
+    // converge and solve its score equations (first-order conditions).
+    let (n, p) = (5000, 10);
+    let mut state = 12345_u64;
+    let mut uniform = || {
+        // Knuth's MMIX linear congruential generator (common practice).
+        state = state
+            .wrapping_mul(6364136223846793005)
+            .wrapping_add(1442695040888963407);
+        (state >> 11) as f64 / (1_u64 << 53) as f64
+    };
+    let x = Array2::from_shape_fn((n, p), |_| uniform());
+    let y: Vec<u32> = (0..n)
+        .map(|i| ((x[[i, 0]] + x[[i, 1]] + 0.3 * uniform()) * 2.0) as u32 % 4)
+        .collect();
+    let train = TrainPart {
+        x: x.view(),
+        y: Targets::Classes(&y),
+    };
+    let out = Logistic.evaluate_family(
+        Task::Classification { classes: 4 },
+        &train,
+        &[x.view()],
+        &[lambda(1.0)],
+    );
+    let o = out[0].as_ref().expect("fits");
+    assert_eq!(o.note.converged, Some(true), "{:?}", o.note);
+    let (_, prob) = classes_of(o, 0);
+    for k in 1..4 {
+        let score: f64 = (0..n)
+            .map(|i| f64::from(u8::from(y[i] == k)) - prob[[i, k as usize]])
+            .sum();
+        assert!(score.abs() < 1e-8, "class {k}: intercept score {score:e}");
+    }
+}
