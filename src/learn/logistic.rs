@@ -16,8 +16,9 @@
 //! penalty is not symmetric in the classes (penalising `b_k` shrinks class
 //! `k` towards the reference class, not towards the average); we accept that
 //! for the identifiable, well-posed Hessian it gives at `lambda = 0` and for
-//! the match with the reference library. No column scaling: `lambda`
-//! penalises coefficients in the units the features arrive in.
+//! the match with the reference library. `lambda` penalises coefficients in
+//! the units the features arrive in (the internal standardisation below is a
+//! reparametrisation and does not change that).
 //!
 //! Solver: Newton's method on the full Hessian of all `(K-1)(p+1)` parameters,
 //! starting from zero, with step halving (at most 40 halvings) until the
@@ -251,13 +252,11 @@ impl<'a> Prepared<'a> {
         let mut previous_small: Option<f64> = None;
         while fit.iterations < MAX_ITERATIONS {
             fit.iterations += 1;
-            let (g, h) = self.gradient_hessian(&fit.theta, lambda);
-            let Some(svd) = Svd::new(DMatrix::from_row_slice(g.len(), g.len(), &h)) else {
+            let Some((step, rank_deficient)) = self.newton_step(&fit.theta, lambda) else {
                 fit.failure = Some("the decomposition of the Hessian did not converge".into());
                 return fit;
             };
-            fit.rank_deficient = svd.rank() < g.len();
-            let step = svd.apply(&g, |s| 1.0 / s);
+            fit.rank_deficient = rank_deficient;
             let largest_step = step.iter().fold(0.0_f64, |m, v| m.max(v.abs()));
             let size = largest_step / (1.0 + fit.theta.iter().fold(0.0_f64, |m, v| m.max(v.abs())));
             if size <= QUADRATIC_REGION {
@@ -288,6 +287,13 @@ impl<'a> Prepared<'a> {
             }
         }
         fit
+    }
+
+    /// `H^+ g` at `theta`, and whether `H` is rank-deficient.
+    fn newton_step(&self, theta: &[f64], lambda: f64) -> Option<(Vec<f64>, bool)> {
+        let (g, h) = self.gradient_hessian(theta, lambda);
+        let svd = Svd::new(DMatrix::from_row_slice(g.len(), g.len(), &h))?;
+        Some((svd.apply(&g, |s| 1.0 / s), svd.rank() < g.len()))
     }
 
     /// The first of `theta - t * step`, `t = 1, 1/2, 1/4, ...`, whose

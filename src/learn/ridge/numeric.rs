@@ -22,7 +22,8 @@
 //!   machine) `hypot` is plain SSE2 code, not an IFUNC (checked with
 //!   `readelf -Ws libm.so.6` and `objdump`); `exp` and `log` *are* IFUNCs
 //!   there (FMA variants chosen at load time), which is why [`exp`] and [`ln`]
-//!   below are our own.
+//!   below are our own. Another C library may round `hypot` differently:
+//!   results are then reproducible per platform, not across platforms.
 
 use nalgebra::DMatrix;
 use ndarray::ArrayView2;
