@@ -26,8 +26,12 @@
 //! more features than rows) then gets the minimum-norm least-squares
 //! solution, and the outcome's note says so; never a NaN.
 //!
-//! Determinism: see [`numeric`] for what was checked in nalgebra and the
-//! platform math library. Every product here is a fixed-order loop.
+//! Determinism: nalgebra's SVD (Householder bidiagonalisation, then Givens
+//! QR sweeps) never reaches the run-time-dispatched `matrixmultiply` kernels,
+//! because every product inside it has a one-column output and nalgebra only
+//! hands products with more than 5 rows and columns to `matrixmultiply`; our
+//! own products (`U^T y`, `V w`, predictions) are fixed-order loops. See
+//! [`numeric`] for the source files read and the platform math library.
 
 pub(super) mod numeric;
 
