@@ -23,10 +23,10 @@ mod shrunken_centroid;
 mod tree;
 
 pub use baseline::Baseline;
-pub use logistic::Logistic;
+pub use logistic::{Logistic, LogisticCoefficients};
 pub use nearest_centroid::NearestCentroid;
 pub use nearest_neighbors::NearestNeighbors;
-pub use ridge::Ridge;
+pub use ridge::{Ridge, RidgeCoefficients};
 pub use setting::{SettingDefault, SettingKind, SettingSpec, SettingValue, Settings};
 pub use shrunken_centroid::ShrunkenCentroid;
 pub use tree::Tree;
