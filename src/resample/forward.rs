@@ -108,7 +108,10 @@ mod tests {
         }
     }
 
-    fn run(order: &[f64], chain: Chain) -> Result<Vec<(Vec<u32>, Vec<u32>)>, ResampleError> {
+    /// (train, validation) of each split.
+    type Parts = Vec<(Vec<u32>, Vec<u32>)>;
+
+    fn run(order: &[f64], chain: Chain) -> Result<Parts, ResampleError> {
         let rows: Vec<u32> = (0..order.len() as u32).collect();
         let ctx = Ctx {
             rows: &rows,

@@ -37,7 +37,7 @@ pub(super) fn kfold(
     let plan = Folds::new(ctx, folds, repeats, stratify)?;
     let mut out = Vec::with_capacity(folds * repeats);
     for repeat in 0..repeats {
-        let mut mix = Mix::Seeded(ctx.stream("kfold", repeat));
+        let mut mix = Mix::seeded(ctx.stream("kfold", repeat));
         out.extend(emit_folds(ctx.rows, &plan.assign(&mut mix), folds, repeat));
     }
     Ok(out)

@@ -1,5 +1,6 @@
 //! Leave-one-out and leave-one-group-out: no randomness, one split per row
-//! or per group, in row order or group-code order.
+//! or per group, in row order or group-code order; `fold` is the row's
+//! position among the development rows, or the group's rank in code order.
 //!
 //! Leave-one-out with a group column is allowed only when every group has a
 //! single development row (then it is leave-one-group-out); otherwise a row

@@ -47,7 +47,7 @@ pub(super) fn monte_carlo(
     let plan = Draws::new(ctx, train, validation, stratify)?;
     let mut out = Vec::with_capacity(draws);
     for d in 0..draws {
-        let mut mix = Mix::Seeded(ctx.stream("monte-carlo", d));
+        let mut mix = Mix::seeded(ctx.stream("monte-carlo", d));
         out.push(emit_parts(ctx.rows, &plan.assign(&mut mix)?, 0, d));
     }
     Ok(out)

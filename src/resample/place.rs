@@ -10,19 +10,19 @@
 //! - [`closest_shares`]: each group in the given order to the part where the
 //!   class counts stay closest to their targets. Part `b` has weight `w_b`
 //!   (`W` = the sum of the weights), so its target for class `c` is
-//!   `N_c * w_b / W` and for rows `N * w_b / W`. The cost of a placement is
-//!   `sum over parts b of [ sum over classes c of (x_bc - N_c w_b / W)^2
-//!   + (x_b - N w_b / W)^2 ]`, with `x_bc` the rows of class `c` and `x_b`
-//!   all rows in part `b`; each group goes where it raises the cost least,
+//!   `N_c * w_b / W` and for rows `N * w_b / W`. The cost of a placement
+//!   is the sum over parts `b` of
+//!   `sum_c (x_bc - N_c w_b / W)^2 + (x_b - N w_b / W)^2`, with `x_bc` the
+//!   rows of class `c` and `x_b` all rows in part `b`; each group goes where it raises the cost least,
 //!   ties by lowest part index. The row term keeps parts balanced in size
 //!   when groups hold a single class each (then the class terms alone could
 //!   tie). The increase is computed exactly in integers scaled by `W`: for
 //!   a group with `g_c` rows of class `c` and `g` rows in all, it is
 //!   `sum_c g_c (2 (W x_bc - w_b N_c) + W g_c) + g (2 (W x_b - w_b N) + W g)`
-//!   (divided by `W`, which does not change the choice). An empty part never
-//!   costs more than a non-empty one, and strictly less when the part's
-//!   weight is at least as large, so with equal weights the first groups
-//!   fill the empty folds first.
+//!   (divided by `W`, which does not change the choice). An empty part
+//!   costs strictly less than a non-empty part of no larger weight, so with
+//!   equal weights (k-fold) the first groups go to the empty folds, and
+//!   every fold gets a group when there are at least as many groups.
 //! - [`fill`]: groups in the given order fill parts up to target row
 //!   counts; a group joins the first part still below its target when
 //!   joining leaves the part no farther from the target than before (its

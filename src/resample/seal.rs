@@ -71,7 +71,7 @@ pub fn seal(
     let target = sealed_target(fraction, rows)?;
     let sealed = match *spec {
         SealSpec::Random { stratify, .. } => {
-            let mut mix = Mix::Seeded(Stream::new(seed, "seal"));
+            let mut mix = Mix::seeded(Stream::new(seed, "seal"));
             random(&all, facts, target, stratify, &mut mix)?
         }
         SealSpec::Last { .. } => last(&all, facts, target)?,

@@ -42,12 +42,16 @@ impl Ctx<'_> {
 /// A shuffle that is either seeded or the identity (for hand-worked tests).
 #[derive(Clone, Debug)]
 pub(super) enum Mix {
-    Seeded(Stream),
+    Seeded(Box<Stream>),
     #[cfg_attr(not(test), allow(dead_code))]
     Identity,
 }
 
 impl Mix {
+    pub fn seeded(stream: Stream) -> Mix {
+        Mix::Seeded(Box::new(stream))
+    }
+
     pub fn shuffle<T>(&mut self, items: &mut [T]) {
         if let Mix::Seeded(stream) = self {
             stream.shuffle(items);
