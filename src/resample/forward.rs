@@ -45,7 +45,7 @@ pub(super) fn forward_chaining(ctx: &Ctx<'_>, chain: Chain) -> Result<Vec<Split>
         instead: "use k-fold",
     })?;
     check(chain)?;
-    let times = Times::new(ctx.rows, order);
+    let times = Times::new(ctx.rows, order)?;
     let origins = origins(chain, times.len())?;
     let splits = origins.into_iter().enumerate().map(|(fold, o)| {
         let from = match chain.window {

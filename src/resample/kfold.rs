@@ -16,7 +16,9 @@
 //!   effect, so every repeat (and every seed) gives the same folds;
 //! - grouped and stratified: the same order, each group to the fold where
 //!   class counts stay closest to their targets (`super::place` documents
-//!   the cost).
+//!   the cost). Each class still needs at least one row per fold (else the
+//!   same error as stratified); a class held by fewer groups than folds is
+//!   missing from some folds, which the cost accepts.
 //!
 //! Folds are numbered from 0; fold `f` validates its rows and trains on all
 //! other development rows. Work is O(n log n + k n) (the k-fold output

@@ -40,8 +40,8 @@ use super::{ResampleError, RowFacts, Stream};
 #[derive(Clone, Copy, Debug, PartialEq, Serialize)]
 #[serde(rename_all = "kebab-case", tag = "by")]
 pub enum SealSpec {
-    /// A random `fraction` of the rows (of whole groups, when grouped),
-    /// stratified by class when asked.
+    /// A random `fraction` of the rows (met with whole groups, when
+    /// grouped), stratified by class when asked.
     Random { fraction: f64, stratify: bool },
     /// The latest `fraction` of the rows by the order column.
     Last { fraction: f64 },
@@ -64,6 +64,12 @@ pub fn seal(
 ) -> Result<Partition, ResampleError> {
     if rows == 0 {
         return Err(ResampleError::NoData);
+    }
+    if u32::try_from(rows).is_err() {
+        return Err(ResampleError::Impossible(format!(
+            "{rows} rows are more than the {} a row index can hold; split the data file",
+            u32::MAX
+        )));
     }
     let all: Vec<u32> = (0..rows as u32).collect();
     check_rows(&all, facts)?;
@@ -194,7 +200,7 @@ fn last(all: &[u32], facts: RowFacts<'_>, s: usize) -> Result<Vec<bool>, Resampl
         what: "sealing the last rows",
         instead: "seal a random fraction",
     })?;
-    let times = Times::new(all, order);
+    let times = Times::new(all, order)?;
     let (mut got, mut from) = (0, times.len());
     while from > 0 && got < s && times.size(from - 1) <= 2 * (s - got) {
         from -= 1;

@@ -189,7 +189,7 @@ pub enum ResampleError {
 }
 
 /// Rows of each class code among `rows`, in class-code order: the achieved
-/// class counts of a part, for reports.
+/// class counts of a part, for reports. Rows beyond `class` are skipped.
 pub fn class_counts(rows: &[u32], class: &[u32]) -> Vec<(u32, usize)> {
     let mut counts = std::collections::BTreeMap::new();
     for &row in rows {
@@ -198,4 +198,15 @@ pub fn class_counts(rows: &[u32], class: &[u32]) -> Vec<(u32, usize)> {
         }
     }
     counts.into_iter().collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn class_counts_by_hand() {
+        let class = [2, 0, 2, 2, 1];
+        assert_eq!(class_counts(&[0, 2, 3, 4, 9], &class), vec![(1, 1), (2, 3)]);
+    }
 }

@@ -465,6 +465,41 @@ fn more_repeats_or_draws_keep_the_earlier_ones() {
 }
 
 #[test]
+fn a_missing_order_value_matters_only_where_order_is_used() {
+    let order = [1.0, f64::NAN, 2.0, 3.0];
+    let facts = RowFacts {
+        order: Some(&order),
+        ..RowFacts::default()
+    };
+    let rows = [0, 1, 2, 3];
+    let kfold = Scheme::KFold {
+        folds: 2,
+        repeats: 1,
+        stratify: false,
+    };
+    assert!(splits(&kfold, &rows, facts, 0).is_ok());
+    let random = SealSpec::Random {
+        fraction: 0.5,
+        stratify: false,
+    };
+    assert!(seal(&random, 4, facts, 0).is_ok());
+    let chain = Scheme::ForwardChaining {
+        splits: None,
+        window: Window::Expanding,
+        min_train: 1,
+        validation: 1,
+        gap: 0,
+        step: 1,
+    };
+    let want = Some(ResampleError::OrderNotANumber { row: 1 });
+    assert_eq!(splits(&chain, &rows, facts, 0).err(), want);
+    assert_eq!(
+        seal(&SealSpec::Last { fraction: 0.5 }, 4, facts, 0).err(),
+        want
+    );
+}
+
+#[test]
 fn stratified_kfold_error_names_the_class_code() {
     let class = [3, 3, 3, 5, 5, 3];
     let facts = RowFacts {

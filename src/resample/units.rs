@@ -59,8 +59,9 @@ impl Mix {
     }
 }
 
-/// Check that `rows` is non-empty, strictly ascending, covered by every
-/// fact column given, and that no order value among them is NaN.
+/// Check that `rows` is non-empty, strictly ascending and covered by every
+/// fact column given. Order values are checked where they are used
+/// ([`Times::new`]), so a scheme that ignores order never fails on one.
 pub(super) fn check_rows(rows: &[u32], facts: RowFacts<'_>) -> Result<(), ResampleError> {
     let Some(&last) = rows.last() else {
         return Err(ResampleError::NoRows);
@@ -81,11 +82,6 @@ pub(super) fn check_rows(rows: &[u32], facts: RowFacts<'_>) -> Result<(), Resamp
                 len,
             });
         }
-    }
-    if let Some(order) = facts.order
-        && let Some(&row) = rows.iter().find(|&&r| order[r as usize].is_nan())
-    {
-        return Err(ResampleError::OrderNotANumber { row });
     }
     Ok(())
 }
@@ -232,9 +228,12 @@ pub(super) struct Times {
 }
 
 impl Times {
-    /// Time points of `rows` under `order` (checked free of NaN). -0.0 and
-    /// 0.0 are the same time point.
-    pub fn new(rows: &[u32], order: &[f64]) -> Times {
+    /// Time points of `rows` under `order`; a NaN among them is an error
+    /// naming the lowest such row. -0.0 and 0.0 are the same time point.
+    pub fn new(rows: &[u32], order: &[f64]) -> Result<Times, ResampleError> {
+        if let Some(&row) = rows.iter().find(|&&r| order[r as usize].is_nan()) {
+            return Err(ResampleError::OrderNotANumber { row });
+        }
         let value = |pos: u32| {
             let v = order[rows[pos as usize] as usize];
             if v == 0.0 { 0.0 } else { v }
@@ -248,7 +247,7 @@ impl Times {
             }
         }
         start.push(by_time.len());
-        Times { by_time, start }
+        Ok(Times { by_time, start })
     }
 
     /// Number of time points.
@@ -330,6 +329,10 @@ mod tests {
     #[test]
     fn check_rows_reports_each_defect() {
         let order = [1.0, f64::NAN, 3.0];
+        assert_eq!(
+            Times::new(&[0, 1, 2], &order).err(),
+            Some(ResampleError::OrderNotANumber { row: 1 })
+        );
         let class = [0, 1];
         let facts = RowFacts {
             class: Some(&class),
@@ -352,16 +355,12 @@ mod tests {
                     len: 2,
                 },
             ),
-            (
-                &[0, 1, 2],
-                order_facts,
-                ResampleError::OrderNotANumber { row: 1 },
-            ),
         ];
         for (rows, facts, want) in cases {
             assert_eq!(check_rows(rows, facts), Err(want));
         }
-        assert_eq!(check_rows(&[0, 2], order_facts), Ok(()));
+        // A NaN order value is not checked here: only where order is used.
+        assert_eq!(check_rows(&[0, 1, 2], order_facts), Ok(()));
     }
 
     #[test]
@@ -382,7 +381,7 @@ mod tests {
     #[test]
     fn time_points_merge_equal_values() {
         let order = [3.0, -0.0, 0.0, 3.0, -1.0];
-        let times = Times::new(&[0, 1, 2, 3, 4], &order);
+        let times = Times::new(&[0, 1, 2, 3, 4], &order).expect("no NaN");
         assert_eq!(times.len(), 3);
         assert_eq!(times.positions(0, 1), vec![4]);
         assert_eq!(times.positions(1, 2), vec![1, 2]);
