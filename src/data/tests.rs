@@ -603,38 +603,3 @@ fn the_penguins_file_loads_with_its_documented_counts() {
         "{msg}"
     );
 }
-
-/// The benchmark's load: 1,000,000 rows of 20 features, fingerprinted, in
-/// well under the 15 s and 1 GiB the whole benchmark may take. Ignored by
-/// default (it writes a 200 MB file); run it with
-/// `cargo test --release --lib data::tests::a_million_rows -- --ignored --nocapture`.
-#[test]
-#[ignore]
-fn a_million_rows_load_quickly_in_little_memory() {
-    let dir = TempDir::new().expect("temp dir");
-    let path = dir.path().join("bench.csv");
-    let mut file = std::fs::File::create(&path).expect("bench file");
-    let started = std::time::Instant::now();
-    crate::demo::write_bench(&mut file, 1, 1_000_000, 500, 20, 3).expect("write bench");
-    drop(file);
-    eprintln!("written in {:?}", started.elapsed());
-    let spec = DataSpec {
-        features: (1..=20).map(|j| format!("f{j:02}")).collect(),
-        group: Some("unit".into()),
-        order: Some("t".into()),
-        ..spec(&path)
-    };
-    let started = std::time::Instant::now();
-    let data = load(&spec).expect("bench loads");
-    let elapsed = started.elapsed();
-    assert_eq!((data.rows(), data.features.ncols()), (1_000_000, 20));
-    let peak = std::fs::read_to_string("/proc/self/status")
-        .ok()
-        .and_then(|s| {
-            s.lines()
-                .find(|l| l.starts_with("VmHWM:"))
-                .map(str::to_owned)
-        });
-    eprintln!("loaded in {elapsed:?}; peak {peak:?}");
-    assert!(elapsed.as_secs_f64() < 10.0, "{elapsed:?}");
-}

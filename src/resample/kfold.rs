@@ -10,10 +10,12 @@
 //! - stratified: the deal of [`super::deal`], each class's rows (ascending)
 //!   shuffled first, classes in code order, all from the repeat's stream;
 //! - grouped (whenever the facts carry a group column): groups (in code
-//!   order) shuffled, then sorted largest first (stable, so equal sizes keep
-//!   the shuffled order), each to the fold with the fewest rows so far, ties
-//!   by lowest fold index. When all group sizes differ the shuffle has no
-//!   effect, so every repeat (and every seed) gives the same folds;
+//!   order) shuffled, each in that order to the fold with the fewest rows so
+//!   far, ties by lowest fold index. Fold sizes then differ by at most the
+//!   largest group's size. (Placing the largest groups first would balance
+//!   a little better, but when all group sizes differ it makes the shuffle
+//!   irrelevant, so every repeat and every seed would give the same folds
+//!   and `repeats` would mean nothing.);
 //! - grouped and stratified: the same order, each group to the fold where
 //!   class counts stay closest to their targets (`super::place` documents
 //!   the cost). Each class still needs at least one row per fold (else the
@@ -110,11 +112,11 @@ impl Folds {
                 deal_lists(&lists, self.len, k)
             }
             Layout::Grouped(units) => {
-                let unit_fold = least_rows(units, &units.largest_first(mix), k);
+                let unit_fold = least_rows(units, &units.shuffled(mix), k);
                 units.of.iter().map(|&u| unit_fold[u as usize]).collect()
             }
             Layout::GroupedStratified(units, classes) => {
-                let order = units.largest_first(mix);
+                let order = units.shuffled(mix);
                 let unit_fold = closest_shares(units, &order, &vec![1; k], *classes);
                 units.of.iter().map(|&u| unit_fold[u as usize]).collect()
             }
@@ -238,18 +240,41 @@ mod tests {
     }
 
     #[test]
-    fn grouped_without_shuffle_places_largest_first() {
+    fn grouped_without_shuffle_places_groups_in_order() {
         // By hand: groups (code: rows) 0: {0,1,2}, 1: {3}, 2: {4,5}, 3: {6,7};
-        // sizes 3, 1, 2, 2; largest first (stable): 0, 2, 3, 1.
-        // 2 folds: g0 -> 0 (3); g2 -> 1 (2); g3 -> 1 (2 < 3) -> 4; g1 -> 0 -> 4.
+        // in order to the fold with fewest rows, ties to the lowest fold:
+        // g0 -> 0 (3); g1 -> 1 (1); g2 -> 1 (1 < 3) -> 3; g3 -> 0 (3 = 3, lowest) -> 5.
         let group = [0, 0, 0, 1, 2, 2, 3, 3];
         let facts = RowFacts {
             group: Some(&group),
             ..RowFacts::default()
         };
         let rows: Vec<u32> = (0..8).collect();
-        let want = vec![vec![0, 1, 2, 3], vec![4, 5, 6, 7]];
+        let want = vec![vec![0, 1, 2, 6, 7], vec![3, 4, 5]];
         assert_eq!(identity_folds(&rows, facts, 2, false), want);
+    }
+
+    #[test]
+    fn grouped_repeats_differ_even_when_every_group_size_differs() {
+        // Ten groups of sizes 1..=10: a largest-first placement would make
+        // every repeat identical; shuffled placement must not.
+        let group: Vec<u32> = (0..10u32)
+            .flat_map(|g| std::iter::repeat_n(g, g as usize + 1))
+            .collect();
+        let facts = RowFacts {
+            group: Some(&group),
+            ..RowFacts::default()
+        };
+        let rows: Vec<u32> = (0..group.len() as u32).collect();
+        let scheme = crate::resample::Scheme::KFold {
+            folds: 3,
+            repeats: 2,
+            stratify: false,
+        };
+        let splits = crate::resample::splits(&scheme, &rows, facts, 5).expect("splits");
+        let (first, second): (Vec<_>, Vec<_>) = splits.iter().partition(|s| s.repeat == 0);
+        let parts = |v: &[&Split]| v.iter().map(|s| s.validation.clone()).collect::<Vec<_>>();
+        assert_ne!(parts(&first), parts(&second));
     }
 
     #[test]

@@ -192,14 +192,6 @@ impl Units {
         order
     }
 
-    /// Units in shuffled order, then largest first (a stable sort, so equal
-    /// sizes keep their shuffled order).
-    pub fn largest_first(&self, mix: &mut Mix) -> Vec<u32> {
-        let mut order = self.shuffled(mix);
-        order.sort_by_key(|&u| std::cmp::Reverse(self.size(u as usize)));
-        order
-    }
-
     /// Smallest and largest unit sizes (for error messages).
     pub fn size_range(&self) -> (usize, usize) {
         let sizes = (0..self.len()).map(|u| self.size(u));

@@ -245,7 +245,6 @@ mod tests {
     }
 
     #[test]
-    #[ignore = "needs the real resample::Stream; the placeholder counts up by one"]
     fn bootstrap_with_the_real_stream_is_close_to_wilson() {
         // Same check and tolerance as above, through the public API.
         let values = outcomes(600, 2000);
