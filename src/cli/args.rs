@@ -28,7 +28,79 @@ pub enum Sub {
         #[arg(long, value_name = "FILE")]
         out: PathBuf,
     },
-    /// Write the wind-turbine demo data and plan into a folder and check the plan
+    /// Run every job of a plan, select a candidate and append a selection to the ledger
+    Run {
+        plan: PathBuf,
+        #[command(flatten)]
+        ledger: LedgerArg,
+        #[arg(long)]
+        json: bool,
+    },
+    /// Refit the selected candidate, score it once on the sealed partition and record the opening
+    Unseal {
+        plan: PathBuf,
+        /// Why you are looking at the sealed partition (recorded in the ledger)
+        #[arg(long)]
+        reason: String,
+        /// Open a partition that has been opened before (counted, and shown in every audit)
+        #[arg(long)]
+        again: bool,
+        #[command(flatten)]
+        ledger: LedgerArg,
+        #[arg(long)]
+        json: bool,
+    },
+    /// Show every opening of the sealed partitions of a plan's data (or of all data), and row exposure
+    Audit {
+        plan: Option<PathBuf>,
+        #[command(flatten)]
+        ledger: LedgerArg,
+        #[arg(long)]
+        json: bool,
+    },
+    /// Walk the ledger's hash chain and name the first entry that does not match
+    Verify {
+        /// Also prove that this earlier head hash is still part of the chain
+        #[arg(long, value_name = "HASH")]
+        head: Option<String>,
+        #[command(flatten)]
+        ledger: LedgerArg,
+        #[arg(long)]
+        json: bool,
+    },
+    /// Print the hash of the ledger's latest entry (commit it or send it elsewhere)
+    Head {
+        #[command(flatten)]
+        ledger: LedgerArg,
+        #[arg(long)]
+        json: bool,
+    },
+    /// Re-run a recorded selection or opening and compare it with the ledger, byte for byte
+    Replay {
+        /// Sequence number, unique hash prefix, or `latest`
+        entry: String,
+        #[command(flatten)]
+        ledger: LedgerArg,
+        #[arg(long)]
+        json: bool,
+    },
+    /// List the ledger's entries
+    Log {
+        #[command(flatten)]
+        ledger: LedgerArg,
+        #[arg(long)]
+        json: bool,
+    },
+    /// Print one ledger entry in full
+    Show {
+        /// Sequence number, unique hash prefix, or `latest`
+        entry: String,
+        #[command(flatten)]
+        ledger: LedgerArg,
+        #[arg(long)]
+        json: bool,
+    },
+    /// Write the wind-turbine demo data and plan into a folder and run the whole job on it
     Demo {
         /// Folder to write into (created if missing)
         #[arg(long, default_value = "holdfast-demo")]
@@ -38,12 +110,70 @@ pub enum Sub {
     },
 }
 
+/// The ledger file option shared by the ledger commands.
+#[derive(Debug, clap::Args)]
+pub struct LedgerArg {
+    /// The ledger file (default: $HOLDFAST_LEDGER, else ledger/holdfast.sqlite at the
+    /// root of the plan's git work tree, else beside the plan)
+    #[arg(long, value_name = "FILE")]
+    pub ledger: Option<PathBuf>,
+}
+
 /// What the user asked for, free of clap types.
 #[derive(Clone, Debug, PartialEq)]
 pub enum Command {
-    Check { plan: PathBuf, json: bool },
-    Compile { plan: PathBuf, out: PathBuf },
-    Demo { dir: PathBuf, json: bool },
+    Check {
+        plan: PathBuf,
+        json: bool,
+    },
+    Compile {
+        plan: PathBuf,
+        out: PathBuf,
+    },
+    Run {
+        plan: PathBuf,
+        ledger: Option<PathBuf>,
+        json: bool,
+    },
+    Unseal {
+        plan: PathBuf,
+        reason: String,
+        again: bool,
+        ledger: Option<PathBuf>,
+        json: bool,
+    },
+    Audit {
+        plan: Option<PathBuf>,
+        ledger: Option<PathBuf>,
+        json: bool,
+    },
+    Verify {
+        head: Option<String>,
+        ledger: Option<PathBuf>,
+        json: bool,
+    },
+    Head {
+        ledger: Option<PathBuf>,
+        json: bool,
+    },
+    Replay {
+        entry: String,
+        ledger: Option<PathBuf>,
+        json: bool,
+    },
+    Log {
+        ledger: Option<PathBuf>,
+        json: bool,
+    },
+    Show {
+        entry: String,
+        ledger: Option<PathBuf>,
+        json: bool,
+    },
+    Demo {
+        dir: PathBuf,
+        json: bool,
+    },
 }
 
 impl From<Sub> for Command {
@@ -51,6 +181,60 @@ impl From<Sub> for Command {
         match sub {
             Sub::Check { plan, json } => Command::Check { plan, json },
             Sub::Compile { plan, out } => Command::Compile { plan, out },
+            Sub::Run { plan, ledger, json } => Command::Run {
+                plan,
+                ledger: ledger.ledger,
+                json,
+            },
+            Sub::Unseal {
+                plan,
+                reason,
+                again,
+                ledger,
+                json,
+            } => Command::Unseal {
+                plan,
+                reason,
+                again,
+                ledger: ledger.ledger,
+                json,
+            },
+            Sub::Audit { plan, ledger, json } => Command::Audit {
+                plan,
+                ledger: ledger.ledger,
+                json,
+            },
+            Sub::Verify { head, ledger, json } => Command::Verify {
+                head,
+                ledger: ledger.ledger,
+                json,
+            },
+            Sub::Head { ledger, json } => Command::Head {
+                ledger: ledger.ledger,
+                json,
+            },
+            Sub::Replay {
+                entry,
+                ledger,
+                json,
+            } => Command::Replay {
+                entry,
+                ledger: ledger.ledger,
+                json,
+            },
+            Sub::Log { ledger, json } => Command::Log {
+                ledger: ledger.ledger,
+                json,
+            },
+            Sub::Show {
+                entry,
+                ledger,
+                json,
+            } => Command::Show {
+                entry,
+                ledger: ledger.ledger,
+                json,
+            },
             Sub::Demo { dir, json } => Command::Demo { dir, json },
         }
     }

@@ -5,6 +5,9 @@
 mod args;
 mod check;
 mod error;
+mod ledger_view;
+mod record;
+mod view;
 
 use std::io::Write;
 use std::process::ExitCode;
@@ -42,8 +45,39 @@ pub fn run(command: Command) -> Result<(), CliError> {
     match command {
         Command::Check { plan, json } => check::check(&plan, json),
         Command::Compile { plan, out } => check::compile(&plan, &out),
+        Command::Run { plan, ledger, json } => record::run(&plan, ledger.as_deref(), json),
+        Command::Unseal {
+            plan,
+            reason,
+            again,
+            ledger,
+            json,
+        } => record::unseal(&plan, &reason, again, ledger.as_deref(), json),
+        Command::Audit { plan, ledger, json } => {
+            ledger_view::audit(plan.as_deref(), ledger.as_deref(), json)
+        }
+        Command::Verify { head, ledger, json } => {
+            ledger_view::verify(head.as_deref(), ledger.as_deref(), json)
+        }
+        Command::Head { ledger, json } => ledger_view::head(ledger.as_deref(), json),
+        Command::Replay {
+            entry,
+            ledger,
+            json,
+        } => record::replay(&entry, ledger.as_deref(), json),
+        Command::Log { ledger, json } => ledger_view::log(ledger.as_deref(), json),
+        Command::Show {
+            entry,
+            ledger,
+            json,
+        } => ledger_view::show(&entry, ledger.as_deref(), json),
         Command::Demo { dir, json } => check::demo(&dir, json),
     }
+}
+
+/// Print a line to stderr (warnings), ignoring a closed pipe.
+pub(crate) fn err(text: &str) {
+    let _ = writeln!(std::io::stderr(), "{text}");
 }
 
 /// Print a line to stdout, ignoring a closed pipe.

@@ -58,12 +58,13 @@ impl From<Note> for NoteRecord {
     }
 }
 
-/// Progress callbacks of a run.
-pub trait RunProgress: Sync {
-    /// `done` more jobs finished (fresh, not reused).
-    fn advance(&self, done: usize);
-    /// A batch of fresh results with their fit seconds, in job order; store it.
-    fn store(&self, batch: &[(JobResult, f64)]);
+/// Where a run reports progress and hands over finished results.
+pub trait RunProgress {
+    /// `done` more jobs finished (fresh, not reused); called from worker threads.
+    fn advance(&self) -> &(dyn Fn(usize) + Sync);
+    /// A batch of fresh results with their fit seconds, in job order; store
+    /// it. Called on the calling thread between batches.
+    fn store(&mut self, batch: &[(JobResult, f64)]);
 }
 
 fn run_split(
@@ -117,7 +118,7 @@ pub fn run_jobs(
     r: &Resolved,
     sheet: &JobSheet,
     cached: &BTreeMap<String, JobResult>,
-    progress: &dyn RunProgress,
+    progress: &mut dyn RunProgress,
 ) -> Vec<JobResult> {
     let mut by_split: BTreeMap<&str, Vec<usize>> = BTreeMap::new();
     for (j, job) in sheet.jobs.iter().enumerate() {
@@ -133,11 +134,12 @@ pub fn run_jobs(
     let mut fresh: BTreeMap<usize, JobResult> = BTreeMap::new();
     let batch = (rayon::current_num_threads() * 2).max(2);
     for chunk in work.chunks(batch) {
+        let advance = progress.advance();
         let mut done: Vec<(usize, JobResult, f64)> = chunk
             .par_iter()
             .flat_map_iter(|(split, todo)| {
                 let out = run_split(r, sheet, split, todo);
-                progress.advance(out.len());
+                advance(out.len());
                 out
             })
             .collect();

@@ -223,13 +223,19 @@ pub fn select(
         .filter(|&i| candidates[i].eligible)
         .collect();
     if eligible.is_empty() {
-        let why = candidates
+        let why: Vec<String> = candidates
             .iter()
+            .filter(|c| !c.reference)
             .filter_map(|c| c.why_not.clone().map(|w| format!("{}: {w}", c.label)))
-            .collect::<Vec<_>>();
+            .collect();
+        let more = if why.len() > 3 {
+            format!("; and {} more", why.len() - 3)
+        } else {
+            String::new()
+        };
         return Err(SelectError::NoneEligible {
             metric: name.to_string(),
-            why: why.join("; "),
+            why: format!("{}{more}", why[..why.len().min(3)].join("; ")),
         });
     }
     let rows = table(sheet, &results, name, &splits, &eligible);

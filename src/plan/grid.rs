@@ -27,12 +27,19 @@ pub fn range_values(from: f64, to: f64, steps: usize, log: bool) -> Vec<f64> {
             }
             if log {
                 let (a, b) = (libm::log(from), libm::log(to));
-                libm::exp(a + i as f64 * (b - a) / last)
+                round_significant(libm::exp(a + i as f64 * (b - a) / last))
             } else {
                 from + i as f64 * (to - from) / last
             }
         })
         .collect()
+}
+
+/// `v` rounded to 12 significant digits, so that a log-scale range from
+/// 0.001 to 100 gives 0.001, 0.01, ..., 100 rather than 0.0010000000000000002.
+/// Rust's float formatting and parsing are exact and platform-independent.
+fn round_significant(v: f64) -> f64 {
+    format!("{v:.11e}").parse().unwrap_or(v)
 }
 
 fn convert(spec: &SettingSpec, learner: &str, value: &Scalar) -> Result<SettingValue, String> {
@@ -175,10 +182,10 @@ mod tests {
     #[test]
     fn log_ranges_hit_powers_of_ten() {
         let v = range_values(0.001, 1000.0, 7, true);
-        let expected = [0.001, 0.01, 0.1, 1.0, 10.0, 100.0, 1000.0];
-        for (got, want) in v.iter().zip(expected) {
-            assert!((got / want - 1.0).abs() < 1e-12, "{got} vs {want}");
-        }
+        assert_eq!(v, [0.001, 0.01, 0.1, 1.0, 10.0, 100.0, 1000.0]);
+        let v = range_values(1.0, 100.0, 5, true);
+        // 10^0.5 = 3.16227766016838 to 12 significant digits (common practice).
+        assert_eq!(v, [1.0, 3.16227766017, 10.0, 31.6227766017, 100.0]);
     }
 
     #[test]

@@ -1,0 +1,123 @@
+//! Shapes of output: an entry as one JSON object (what `show --json`,
+//! `run --json` and `unseal --json` print) and the tables people read.
+
+use serde_json::{Map, Value};
+use tabled::settings::Style;
+use tabled::{Table, Tabled};
+
+use crate::exec::{CandidateSummary, SelectionResult};
+use crate::ledger::{Entry, timestamp_text};
+
+/// An entry as one JSON object: its ledger fields, then every key of its
+/// body at the top level (`result_hash`, `chosen`, `jobs` for a selection;
+/// `partition`, `candidate`, `metric`, `score`, `n`, `interval`,
+/// `openings` for an opening).
+pub fn entry_json(e: &Entry) -> Value {
+    let mut map = Map::new();
+    if let Value::Object(body) = &e.body {
+        for (k, v) in body {
+            map.insert(k.clone(), v.clone());
+        }
+    }
+    let meta = [
+        ("seq", Value::from(e.seq)),
+        ("hash", Value::from(e.hash.clone())),
+        ("prev", Value::from(e.prev.clone())),
+        ("kind", serde_json::to_value(e.kind).unwrap_or_default()),
+        ("timestamp", Value::from(timestamp_text(&e.timestamp))),
+        ("plan_hash", Value::from(e.plan_hash.clone())),
+        ("data_file", Value::from(e.data_file.clone())),
+        ("partition", Value::from(e.partition.clone())),
+        ("result_hash", Value::from(e.result_hash.clone())),
+        (
+            "provenance",
+            serde_json::to_value(&e.provenance).unwrap_or_default(),
+        ),
+    ];
+    for (k, v) in meta {
+        map.insert(k.to_string(), v);
+    }
+    if !e.sealed_rows.is_empty() {
+        map.insert(
+            "sealed_row_hashes".into(),
+            Value::from(e.sealed_rows.clone()),
+        );
+    }
+    Value::Object(map)
+}
+
+/// A number for a table: 4 decimals, or a dash.
+pub fn num(v: Option<f64>) -> String {
+    v.map_or_else(|| "-".to_string(), |x| format!("{x:.4}"))
+}
+
+#[derive(Tabled)]
+struct Row {
+    #[tabled(rename = "rank")]
+    rank: String,
+    #[tabled(rename = "candidate")]
+    candidate: String,
+    #[tabled(rename = "mean")]
+    mean: String,
+    #[tabled(rename = "sd")]
+    sd: String,
+    #[tabled(rename = "se")]
+    se: String,
+    #[tabled(rename = "train mean")]
+    train: String,
+    #[tabled(rename = "splits")]
+    splits: String,
+    #[tabled(rename = "")]
+    mark: String,
+}
+
+/// Candidates ranked by mean (best first; candidates without a mean last).
+pub fn ranked(s: &SelectionResult) -> Vec<&CandidateSummary> {
+    let mut list: Vec<&CandidateSummary> = s.candidates.iter().collect();
+    let key = |c: &CandidateSummary| c.mean.map(|m| if s.larger_is_better { -m } else { m });
+    list.sort_by(|a, b| match (key(a), key(b)) {
+        (Some(x), Some(y)) => x.total_cmp(&y),
+        (Some(_), None) => std::cmp::Ordering::Less,
+        (None, Some(_)) => std::cmp::Ordering::Greater,
+        (None, None) => std::cmp::Ordering::Equal,
+    });
+    list
+}
+
+fn mark(s: &SelectionResult, c: &CandidateSummary) -> String {
+    let mut marks = Vec::new();
+    if c.id == s.chosen {
+        marks.push("<- chosen".to_string());
+    } else if c.id == s.best {
+        marks.push("best mean".to_string());
+    }
+    if c.reference {
+        marks.push("baseline".to_string());
+    }
+    if let Some(w) = c.why_not.as_ref().filter(|_| !c.reference) {
+        marks.push(w.clone());
+    }
+    if c.not_converged > 0 {
+        marks.push(format!("did not converge on {} split(s)", c.not_converged));
+    }
+    marks.join("; ")
+}
+
+/// The selection table.
+pub fn selection_table(s: &SelectionResult) -> String {
+    let rows: Vec<Row> = ranked(s)
+        .into_iter()
+        .enumerate()
+        .map(|(i, c)| Row {
+            rank: (i + 1).to_string(),
+            candidate: c.label.clone(),
+            mean: num(c.mean),
+            sd: num(c.sd),
+            se: num(c.se),
+            train: num(c.training_mean),
+            splits: c.scored_splits.to_string(),
+            mark: mark(s, c),
+        })
+        .collect();
+    Table::new(rows).with(Style::sharp()).to_string()
+}
