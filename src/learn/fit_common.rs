@@ -366,10 +366,10 @@ pub(crate) fn probability_matrix(rows: Vec<Vec<f64>>, classes: usize) -> Array2<
 pub(crate) fn argmin(values: &[Option<f64>]) -> Option<usize> {
     let mut best: Option<(usize, f64)> = None;
     for (i, v) in values.iter().enumerate() {
-        if let Some(v) = *v {
-            if best.is_none_or(|(_, b)| v < b) {
-                best = Some((i, v));
-            }
+        if let Some(v) = *v
+            && best.is_none_or(|(_, b)| v < b)
+        {
+            best = Some((i, v));
         }
     }
     best.map(|(i, _)| i)

@@ -474,10 +474,8 @@ mod tests {
         let r6 = 6f64.sqrt();
         assert!(fit.m.iter().all(|&m| close(m, 1.0 / r6)));
         let want = [[-0.8 * r6, -r6 / 7.0], [0.8 * r6, r6 / 7.0]];
-        for k in 0..2 {
-            for i in 0..2 {
-                assert!(close(fit.d[k][i], want[k][i]), "d[{k}][{i}]");
-            }
+        for (got, want) in fit.d.iter().flatten().zip(want.iter().flatten()) {
+            assert!(close(*got, *want), "d {got} vs {want}");
         }
         // delta = 0.5: |d_2k| = 0.35 < 0.5 shrinks to 0; d'_1k = -/+ (0.8
         // sqrt(6) - 0.5). xbar'_1k = 4 -/+ 2.5 m (0.8 sqrt(6) - 0.5)
