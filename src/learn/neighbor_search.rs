@@ -4,7 +4,11 @@
 //! Invariants:
 //! - Every reported distance comes from [`distance`], which sums over the
 //!   features in feature order (no FMA, no reordering), so both search paths
-//!   report the same bits for the same pair of rows.
+//!   report the same bits for the same pair of rows. Rows are scanned
+//!   `LANES` at a time with the same operations per lane (compile-time SIMD
+//!   of the baseline target at most; Rust never contracts `a * b + c` into
+//!   an FMA); those values only screen, and a row that may enter the list is
+//!   re-measured with [`distance`], whose value is the one reported.
 //! - Candidates are ordered by `(distance, training row position)`, a strict
 //!   total order (distances are finite and non-negative). A search returns
 //!   the `k` smallest candidates under that order, sorted ascending. That set
@@ -53,6 +57,37 @@ pub(crate) fn distance(metric: Distance, a: &[f64], b: &[f64]) -> f64 {
                 sum += (x - y).abs();
             }
             sum
+        }
+    }
+}
+
+/// What [`distance`] does to its sum last.
+#[inline]
+fn finish(metric: Distance, sum: f64) -> f64 {
+    match metric {
+        Distance::Euclidean => sum.sqrt(),
+        Distance::Manhattan => sum,
+    }
+}
+
+/// A sum above which [`finish`] is surely above `worst`, so the row can be
+/// skipped without taking a square root. For Euclidean sums it is
+/// `worst^2 (1 + 2^-30)`: with rounding of at most 2^-53 per operation, a
+/// sum `S` above it has `sqrt(S) >= worst (1 + 2^-33)`, whose rounded value
+/// exceeds `worst`. Where `worst^2` is not a normal number (below about
+/// 1e-154, or overflowing) the margin argument fails, so nothing is skipped
+/// and the exact comparison decides.
+#[inline]
+fn screen_limit(metric: Distance, worst: f64) -> f64 {
+    match metric {
+        Distance::Manhattan => worst,
+        Distance::Euclidean => {
+            let square = worst * worst;
+            if square.is_normal() || worst == 0.0 {
+                square * (1.0 + 1.0 / (1u64 << 30) as f64)
+            } else {
+                f64::INFINITY
+            }
         }
     }
 }
@@ -133,22 +168,24 @@ pub(crate) enum Method {
 /// `k <= rows / 16`; brute force otherwise.
 ///
 /// Measured roughly with `crossover_timings` below (release build, 2 cores
-/// shared with other builds, so +-30%; 2,000 Gaussian query rows against
-/// Gaussian training rows, k = 10, Euclidean), milliseconds brute / tree:
+/// shared with other builds running at the same time, so absolute numbers
+/// are noisy by a factor of up to 2 and only each cell's ratio is
+/// meaningful; 2,000 Gaussian query rows against Gaussian training rows,
+/// k = 10, Euclidean), milliseconds brute / tree:
 ///
 /// | dims | 1,000 rows | 4,000 | 16,000 | 80,000 |
 /// |---|---|---|---|---|
-/// | 2 | 4.3 / 1.3 | 19.7 / 1.9 | 72 / 12 | 462 / 48 |
-/// | 4 | 10.2 / 5.7 | 26 / 7.4 | 98 / 17 | 380 / 57 |
-/// | 6 | 11.4 / 16.0 | 50 / 26 | 190 / 54 | 714 / 132 |
-/// | 8 | 12.8 / 18.6 | 39 / 46 | 179 / 108 | 698 / 300 |
-/// | 10 | 15.3 / 26.6 | 43 / 86 | 150 / 200 | 723 / 814 |
-/// | 12 | 13.3 / 27.2 | 46 / 119 | 272 / 339 | 1008 / 2156 |
-/// | 16 | 15.8 / 32.3 | 59 / 129 | 187 / 562 | 913 / 3770 |
+/// | 2 | 9.0 / 2.9 | 23 / 4.0 | 80 / 7.1 | 361 / 31 |
+/// | 4 | 10.8 / 6.3 | 28 / 9.0 | 80 / 14 | 397 / 64 |
+/// | 6 | 12.1 / 12.6 | 30 / 22 | 116 / 44 | 467 / 120 |
+/// | 8 | 13.2 / 19.9 | 37 / 47 | 127 / 100 | 589 / 365 |
+/// | 10 | 13.2 / 25.7 | 41 / 75 | 143 / 197 | 670 / 939 |
+/// | 12 | 15.3 / 29.6 | 50 / 109 | 170 / 328 | 756 / 2196 |
+/// | 16 | 15.5 / 35.0 | 59 / 156 | 174 / 492 | 660 / 6439 |
 ///
 /// So the tree wins from about 256 rows at 2 features, 1,000 at 4, 4,000
 /// at 6 and 16,000 at 8; at 10 features it breaks even at 80,000 rows and
-/// beyond that brute force (8 rows at a time, see `LANES`) wins on Gaussian
+/// beyond that brute force (16 rows at a time, see `LANES`) wins on Gaussian
 /// data. Data with structure (a low intrinsic dimension) favours the tree
 /// more than Gaussian noise does, so this rule is conservative. The limit
 /// on `k` is a guess, not measured: with many neighbours the tree has to
@@ -165,8 +202,10 @@ pub(crate) fn choose_method(rows: usize, dims: usize, k: usize) -> Method {
 /// training rows are accumulated side by side (each lane still summing in
 /// feature order), which the compiler turns into SIMD of the baseline
 /// target; the lanes are independent, so the bits are those of
-/// [`distance`].
-const LANES: usize = 8;
+/// [`distance`]. 16 lanes keep 8 two-wide accumulators in flight, which hid
+/// the addition latency best (35% less CPU time than 8 lanes on the
+/// performance target); it also equals `LEAF`, so a leaf is one block.
+const LANES: usize = 16;
 
 /// A padding slot of a block (no training row).
 const PAD: u32 = u32::MAX;
@@ -295,17 +334,23 @@ impl Index {
             .collect()
     }
 
-    /// Offers the rows of block `b`. The block's distances are a screen
-    /// only: a row that might enter the list has its distance computed by
-    /// [`distance`], which gives the same bits, and that value is offered.
+    /// Offers the rows of block `b`. The block's sums are a screen only: a
+    /// row that might enter the list has its distance computed by
+    /// [`distance`] (the same operations, so the same bits) and that value
+    /// is offered.
     fn scan(&self, q: &[f64], b: usize, best: &mut Best) {
-        let lanes = self.block_distances(q, b);
+        let sums = self.block_sums(q, b);
+        let limit = if best.full() {
+            screen_limit(self.metric, best.worst())
+        } else {
+            f64::INFINITY
+        };
         for (l, &row) in self.slots[b].iter().enumerate() {
-            if row == PAD || (best.full() && lanes[l] > best.worst()) {
+            if row == PAD || sums[l] > limit {
                 continue;
             }
             let exact = distance(self.metric, q, self.point(row as usize));
-            debug_assert_eq!(exact.to_bits(), lanes[l].to_bits());
+            debug_assert_eq!(exact.to_bits(), finish(self.metric, sums[l]).to_bits());
             best.offer(Neighbor {
                 distance: exact,
                 row,
@@ -313,9 +358,10 @@ impl Index {
         }
     }
 
-    /// The distances from `q` to the `LANES` slots of block `b`, each lane
-    /// with the operations of [`distance`] in the same order.
-    fn block_distances(&self, q: &[f64], b: usize) -> [f64; LANES] {
+    /// The sums of [`distance`] (before its square root) from `q` to the
+    /// `LANES` slots of block `b`, each lane with the same operations in the
+    /// same order.
+    fn block_sums(&self, q: &[f64], b: usize) -> [f64; LANES] {
         let columns = &self.blocks[b * self.dims..(b + 1) * self.dims];
         let mut sum = [0.0; LANES];
         match self.metric {
@@ -325,9 +371,6 @@ impl Index {
                         let t = x - column[l];
                         sum[l] += t * t;
                     }
-                }
-                for v in &mut sum {
-                    *v = v.sqrt();
                 }
             }
             Distance::Manhattan => {
@@ -522,6 +565,47 @@ mod tests {
         let serial = one_thread.install(|| tree.query_rows(q.view(), 9));
         assert_eq!(all, serial);
         assert_eq!(brute.query_rows(q.view(), 9), all);
+    }
+
+    #[test]
+    fn block_screen_gives_the_bits_of_distance() {
+        let mut rng = ChaCha8Rng::seed_from_u64(8);
+        let mut unit = || (rng.next_u64() >> 11) as f64 / (1u64 << 53) as f64;
+        let x = Array2::from_shape_fn((37, 5), |_| unit() * 1e3 - 3e2);
+        let q: Vec<f64> = (0..5).map(|_| unit() * 1e3).collect();
+        for metric in [Distance::Euclidean, Distance::Manhattan] {
+            let index = Index::build(x.view(), metric, Method::Brute);
+            for b in 0..index.slots.len() {
+                let lanes = index.block_sums(&q, b).map(|v| finish(metric, v));
+                for (l, &row) in index.slots[b]
+                    .iter()
+                    .enumerate()
+                    .filter(|(_, r)| **r != PAD)
+                {
+                    let want = distance(metric, &q, x.row(row as usize).as_slice().unwrap());
+                    assert_eq!(lanes[l].to_bits(), want.to_bits());
+                }
+            }
+        }
+    }
+
+    #[test]
+    fn the_square_root_screen_never_skips_a_row_that_could_enter() {
+        // Any sum above the limit must have a square root above `worst`.
+        let mut rng = ChaCha8Rng::seed_from_u64(21);
+        for _ in 0..20_000 {
+            let exponent = (rng.next_u64() % 600) as i32 - 300;
+            let worst =
+                (1.0 + (rng.next_u64() >> 11) as f64 / (1u64 << 53) as f64) * 2f64.powi(exponent);
+            let limit = screen_limit(Distance::Euclidean, worst);
+            let mut sum = limit.next_up();
+            for _ in 0..4 {
+                assert!(limit.is_infinite() || sum.sqrt() > worst, "worst {worst:e}");
+                sum = sum.next_up();
+            }
+        }
+        assert_eq!(screen_limit(Distance::Euclidean, 1e-160), f64::INFINITY);
+        assert_eq!(screen_limit(Distance::Euclidean, 0.0), 0.0);
     }
 
     #[test]

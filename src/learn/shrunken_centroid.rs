@@ -36,6 +36,7 @@ use super::baseline::fit_common::{
     ClassPart, argmin, check_known, check_matrices, class_part, data_error, fail_all, join_remarks,
     probability_matrix, read_float, shifted_mean, softmax,
 };
+use super::nearest_centroid::class_means;
 use super::{
     LearnError, Learner, Note, Outcome, Predictions, SettingDefault, SettingKind, SettingSpec,
     Settings, Task, TrainPart,
@@ -154,58 +155,31 @@ impl Fit {
             .iter()
             .map(|&c| (c, part.counts[c]))
             .collect();
-        let n = part.y.len();
-        let p = x.ncols();
-        if p == 0 {
-            return Err(data_error(NAME, "the training part has no features"));
-        }
-        if let Some((c, nk)) = present.iter().find(|(_, nk)| *nk < 2) {
-            return Err(data_error(
-                NAME,
-                format!(
-                    "class code {c} has {nk} training row; shrunken centroids need at least two rows per class (stratify the resampling or merge rare classes)"
-                ),
-            ));
-        }
-        let xbar: Vec<f64> = (0..p)
+        check_sizes(x.ncols(), &present)?;
+        let xbar: Vec<f64> = (0..x.ncols())
             .map(|i| shifted_mean(x.column(i).iter().copied()))
             .collect();
-        let class_mean: Vec<Vec<f64>> = present
-            .iter()
-            .map(|&(c, _)| {
-                let rows: Vec<usize> = (0..n).filter(|&r| part.y[r] as usize == c).collect();
-                (0..p)
-                    .map(|i| shifted_mean(rows.iter().map(|&r| x[[r, i]])))
-                    .collect()
-            })
-            .collect();
-        let s = pooled_sd(x, part, &present, &class_mean);
-        let s0 = median(&s);
-        if let Some(i) = s.iter().position(|si| si + s0 == 0.0) {
-            return Err(data_error(
-                NAME,
-                format!(
-                    "feature {i} has no within-class spread and neither have at least half of the features (s_i + s_0 = 0); drop constant features"
-                ),
-            ));
-        }
-        let nf = n as f64;
+        // One mean per present class, in class order, as `present`.
+        let class_mean: Vec<Vec<f64>> = class_means(x, part).into_iter().flatten().collect();
+        let (s, s0) = spreads(x, part, &present, &class_mean)?;
+        let n = part.y.len() as f64;
         let m: Vec<f64> = present
             .iter()
-            .map(|&(_, nk)| (1.0 / nk as f64 - 1.0 / nf).sqrt())
+            .map(|&(_, nk)| (1.0 / nk as f64 - 1.0 / n).sqrt())
             .collect();
-        let d = (0..present.len())
-            .map(|k| {
-                (0..p)
-                    .map(|i| (class_mean[k][i] - xbar[i]) / (m[k] * (s[i] + s0)))
+        let d = class_mean
+            .iter()
+            .zip(&m)
+            .map(|(mean, mk)| {
+                (0..xbar.len())
+                    .map(|i| (mean[i] - xbar[i]) / (mk * (s[i] + s0)))
                     .collect()
             })
             .collect();
         let log_prior = present
             .iter()
-            .map(|&(_, nk)| (nk as f64 / nf).ln())
+            .map(|&(_, nk)| (nk as f64 / n).ln())
             .collect();
-        let remark = part.remark("they get no centroid and probability 0");
         Ok(Fit {
             classes: part.classes,
             present,
@@ -215,7 +189,7 @@ impl Fit {
             m,
             d,
             log_prior,
-            remark,
+            remark: part.remark("they get no centroid and probability 0"),
         })
     }
 
@@ -346,6 +320,43 @@ fn one_class_outcome(
             remark,
             ..Note::default()
         },
+    }
+}
+
+/// Fails without features or with a class of fewer than two rows.
+fn check_sizes(features: usize, present: &[(usize, usize)]) -> Result<(), LearnError> {
+    if features == 0 {
+        return Err(data_error(NAME, "the training part has no features"));
+    }
+    match present.iter().find(|(_, nk)| *nk < 2) {
+        None => Ok(()),
+        Some((c, nk)) => Err(data_error(
+            NAME,
+            format!(
+                "class code {c} has {nk} training row; shrunken centroids need at least two rows per class (stratify the resampling or merge rare classes)"
+            ),
+        )),
+    }
+}
+
+/// `(s_i, s_0)`, failing when some `s_i + s_0` is 0 (its standardised
+/// differences would divide by zero).
+fn spreads(
+    x: ArrayView2<'_, f64>,
+    part: &ClassPart<'_>,
+    present: &[(usize, usize)],
+    class_mean: &[Vec<f64>],
+) -> Result<(Vec<f64>, f64), LearnError> {
+    let s = pooled_sd(x, part, present, class_mean);
+    let s0 = median(&s);
+    match s.iter().position(|si| si + s0 == 0.0) {
+        None => Ok((s, s0)),
+        Some(i) => Err(data_error(
+            NAME,
+            format!(
+                "feature {i} has no within-class spread and neither have at least half of the features (s_i + s_0 = 0); drop constant features"
+            ),
+        )),
     }
 }
 

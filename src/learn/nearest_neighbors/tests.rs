@@ -474,7 +474,8 @@ fn matches_scipy_on_a_penguin_split() {
 /// The performance target: 20,000 queries against 80,000 training rows
 /// with 12 features, a family of k = 1..25 with both votes, under 10 s on 2
 /// cores. Run with `cargo test --release --lib performance_target --
-/// --ignored --nocapture`.
+/// --ignored --nocapture`. Measured: 6.4 s wall, 6.3 s CPU, with other
+/// builds holding about one of the two cores (brute force: 12 features).
 #[test]
 #[ignore]
 fn performance_target() {
