@@ -1,7 +1,37 @@
-//! The metric catalogue and the scoring functions. (Scoring is being built:
-//! see the learners issue.)
+//! The metric catalogue and the scoring functions.
+//!
+//! Definitions (all over the rows of one part, summed in row order):
+//! - `accuracy`: the share of rows whose label equals the truth.
+//! - `balanced-accuracy`: the mean recall over the classes present in the
+//!   truth (a class never true has no recall).
+//! - `macro-f1`: the mean of `F1 = 2 TP / (2 TP + FP + FN)` over the classes
+//!   present in the truth or in the predicted labels (a class in neither has
+//!   no F1; one predicted but never true scores 0 and counts).
+//! - `log-loss`: `-mean(ln p_true)` with each probability clipped to
+//!   `[1e-15, 1 - 1e-15]` (common practice), so a confident miss costs
+//!   `15 ln 10`, not infinity.
+//! - `brier`: with two classes, `mean((p_1 - [y = 1])^2)`, the usual binary
+//!   score; with any other class count, `mean over rows of sum over classes
+//!   of (p_k - [y = k])^2`, Brier's (1950, Monthly Weather Review 78:1-3)
+//!   original multi-category form. For two classes the second form is twice
+//!   the first; holdfast uses the first, as common practice does.
+//! - `roc-auc`: with two classes, class code 1 (the last name in sorted
+//!   order) is the positive class and its probability the score; the area is
+//!   the Mann-Whitney U of the positives over `n1 n0`, with midranks for tied
+//!   scores (a tie counts one half; common practice). With more classes, the
+//!   macro mean of the one-vs-rest areas over the classes present in the
+//!   truth.
+//! - `rmse`, `mae`, `r2 = 1 - SS_res / SS_tot` for real values.
+//!
+//! Invariants: a metric that has no value on a part (an empty part, roc-auc
+//! with one class in the truth, r2 with constant truth, predictions of the
+//! wrong kind) is a [`ScoreError::Undefined`] with the reason; no NaN or
+//! infinity is ever returned. The class count is the number of probability
+//! columns.
 
 use serde::Serialize;
+
+use ndarray::ArrayView2;
 
 use crate::learn::{Predictions, Targets, Task};
 
@@ -96,9 +126,516 @@ pub fn score(
     truth: Targets<'_>,
     predictions: &Predictions,
 ) -> Result<f64, ScoreError> {
-    let _ = (truth, predictions);
-    Err(ScoreError::Undefined {
+    let undefined = |reason: String| ScoreError::Undefined {
         metric: metric.name(),
-        reason: "scoring is not built yet".into(),
-    })
+        reason,
+    };
+    let value = match (truth, predictions) {
+        (
+            Targets::Classes(truth),
+            Predictions::Classes {
+                labels,
+                probabilities,
+            },
+        ) if CLASSIFICATION.contains(&metric) => {
+            let part = ClassScored::new(metric, truth, labels, probabilities.view())?;
+            part.score(metric)?
+        }
+        (Targets::Values(truth), Predictions::Values(predicted))
+            if REGRESSION.contains(&metric) =>
+        {
+            score_values(metric, truth, predicted)?
+        }
+        _ => {
+            return Err(undefined(format!(
+                "{} needs {} truth and predictions of the same kind",
+                metric.name(),
+                if CLASSIFICATION.contains(&metric) {
+                    "class"
+                } else {
+                    "real-valued"
+                }
+            )));
+        }
+    };
+    if value.is_finite() {
+        Ok(value)
+    } else {
+        Err(undefined(
+            "the predictions give a value that is not finite".into(),
+        ))
+    }
+}
+
+fn undefined(metric: Metric, reason: impl Into<String>) -> ScoreError {
+    ScoreError::Undefined {
+        metric: metric.name(),
+        reason: reason.into(),
+    }
+}
+
+/// A classification part, checked: as many labels and probability rows as
+/// truth rows, at least one row, every code below the class count.
+struct ClassScored<'a> {
+    truth: &'a [u32],
+    labels: &'a [u32],
+    probabilities: ArrayView2<'a, f64>,
+    classes: usize,
+}
+
+impl<'a> ClassScored<'a> {
+    fn new(
+        metric: Metric,
+        truth: &'a [u32],
+        labels: &'a [u32],
+        probabilities: ArrayView2<'a, f64>,
+    ) -> Result<ClassScored<'a>, ScoreError> {
+        let shape = |reason: String| undefined(metric, reason);
+        let n = truth.len();
+        if labels.len() != n || probabilities.nrows() != n {
+            return Err(shape(format!(
+                "the truth has {n} rows but there are {} labels and {} probability rows",
+                labels.len(),
+                probabilities.nrows()
+            )));
+        }
+        if n == 0 {
+            return Err(shape("the part has no rows".into()));
+        }
+        let classes = probabilities.ncols();
+        if let Some(code) = truth.iter().chain(labels).find(|&&c| c as usize >= classes) {
+            return Err(shape(format!(
+                "class code {code} is outside the {classes} classes of the probabilities"
+            )));
+        }
+        Ok(ClassScored {
+            truth,
+            labels,
+            probabilities,
+            classes,
+        })
+    }
+
+    fn rows(&self) -> f64 {
+        self.truth.len() as f64
+    }
+
+    fn score(&self, metric: Metric) -> Result<f64, ScoreError> {
+        match metric {
+            Metric::Accuracy => Ok(self.accuracy()),
+            Metric::BalancedAccuracy => Ok(self.balanced_accuracy()),
+            Metric::MacroF1 => Ok(self.macro_f1()),
+            Metric::LogLoss => Ok(self.log_loss()),
+            Metric::Brier => Ok(self.brier()),
+            Metric::RocAuc => self.roc_auc(),
+            _ => Err(undefined(metric, "not a classification metric")),
+        }
+    }
+
+    fn accuracy(&self) -> f64 {
+        let correct = self
+            .truth
+            .iter()
+            .zip(self.labels)
+            .filter(|(t, l)| t == l)
+            .count();
+        correct as f64 / self.rows()
+    }
+
+    /// `(true positives, false positives, false negatives)` per class.
+    fn counts(&self) -> Vec<(usize, usize, usize)> {
+        let mut counts = vec![(0, 0, 0); self.classes];
+        for (&t, &l) in self.truth.iter().zip(self.labels) {
+            if t == l {
+                counts[t as usize].0 += 1;
+            } else {
+                counts[l as usize].1 += 1;
+                counts[t as usize].2 += 1;
+            }
+        }
+        counts
+    }
+
+    fn balanced_accuracy(&self) -> f64 {
+        let recalls: Vec<f64> = self
+            .counts()
+            .iter()
+            .filter(|(tp, _, fn_)| tp + fn_ > 0)
+            .map(|&(tp, _, fn_)| tp as f64 / (tp + fn_) as f64)
+            .collect();
+        recalls.iter().sum::<f64>() / recalls.len() as f64
+    }
+
+    fn macro_f1(&self) -> f64 {
+        let f1: Vec<f64> = self
+            .counts()
+            .iter()
+            .filter(|(tp, fp, fn_)| tp + fp + fn_ > 0)
+            .map(|&(tp, fp, fn_)| (2 * tp) as f64 / (2 * tp + fp + fn_) as f64)
+            .collect();
+        f1.iter().sum::<f64>() / f1.len() as f64
+    }
+
+    fn log_loss(&self) -> f64 {
+        const EPS: f64 = 1e-15;
+        let mut sum = 0.0;
+        for (r, &t) in self.truth.iter().enumerate() {
+            let p = self.probabilities[[r, t as usize]].clamp(EPS, 1.0 - EPS);
+            sum -= p.ln();
+        }
+        sum / self.rows()
+    }
+
+    fn brier(&self) -> f64 {
+        let mut sum = 0.0;
+        for (r, &t) in self.truth.iter().enumerate() {
+            if self.classes == 2 {
+                let d = self.probabilities[[r, 1]] - f64::from(u8::from(t == 1));
+                sum += d * d;
+            } else {
+                for c in 0..self.classes {
+                    let d = self.probabilities[[r, c]] - f64::from(u8::from(t as usize == c));
+                    sum += d * d;
+                }
+            }
+        }
+        sum / self.rows()
+    }
+
+    fn roc_auc(&self) -> Result<f64, ScoreError> {
+        let present: Vec<usize> = (0..self.classes)
+            .filter(|&c| self.truth.iter().any(|&t| t as usize == c))
+            .collect();
+        if present.len() < 2 {
+            return Err(undefined(
+                Metric::RocAuc,
+                "the truth has fewer than two classes, so there is nothing to rank against",
+            ));
+        }
+        let one_vs_rest = |c: usize| {
+            let scores: Vec<f64> = self.probabilities.column(c).to_vec();
+            let positive: Vec<bool> = self.truth.iter().map(|&t| t as usize == c).collect();
+            mann_whitney_auc(&scores, &positive)
+        };
+        if self.classes == 2 {
+            return Ok(one_vs_rest(1));
+        }
+        let areas: Vec<f64> = present.iter().map(|&c| one_vs_rest(c)).collect();
+        Ok(areas.iter().sum::<f64>() / areas.len() as f64)
+    }
+}
+
+/// The Mann-Whitney U of the positives divided by `n1 n0`: the probability
+/// that a random positive scores above a random negative, ties counting one
+/// half. Ranks are 1-based with midranks for tied scores; twice the rank sum
+/// is an integer, so everything up to the one division is exact. The
+/// caller guarantees at least one positive and one negative.
+fn mann_whitney_auc(scores: &[f64], positive: &[bool]) -> f64 {
+    let n = scores.len();
+    let mut order: Vec<usize> = (0..n).collect();
+    order.sort_by(|&a, &b| scores[a].total_cmp(&scores[b]).then(a.cmp(&b)));
+    let mut twice_rank_sum: u128 = 0;
+    let mut i = 0;
+    while i < n {
+        let mut j = i;
+        while j + 1 < n && scores[order[j + 1]] == scores[order[i]] {
+            j += 1;
+        }
+        // Positions i..=j share the midrank ((i + 1) + (j + 1)) / 2.
+        let positives = order[i..=j].iter().filter(|&&r| positive[r]).count() as u128;
+        twice_rank_sum += positives * (i + j + 2) as u128;
+        i = j + 1;
+    }
+    let n1 = positive.iter().filter(|&&p| p).count() as u128;
+    let n0 = n as u128 - n1;
+    let twice_u = twice_rank_sum - n1 * (n1 + 1);
+    twice_u as f64 / (2 * n1 * n0) as f64
+}
+
+fn score_values(metric: Metric, truth: &[f64], predicted: &[f64]) -> Result<f64, ScoreError> {
+    let n = truth.len();
+    if predicted.len() != n {
+        return Err(undefined(
+            metric,
+            format!(
+                "the truth has {n} rows but there are {} predictions",
+                predicted.len()
+            ),
+        ));
+    }
+    if n == 0 {
+        return Err(undefined(metric, "the part has no rows"));
+    }
+    let rows = n as f64;
+    let squared: f64 = truth
+        .iter()
+        .zip(predicted)
+        .map(|(t, p)| (t - p) * (t - p))
+        .sum();
+    match metric {
+        Metric::Rmse => Ok((squared / rows).sqrt()),
+        Metric::Mae => Ok(truth
+            .iter()
+            .zip(predicted)
+            .map(|(t, p)| (t - p).abs())
+            .sum::<f64>()
+            / rows),
+        Metric::R2 => {
+            if truth.iter().all(|&t| t == truth[0]) {
+                return Err(undefined(
+                    metric,
+                    "the truth is constant, so there is no variance to explain",
+                ));
+            }
+            let mean = truth.iter().sum::<f64>() / rows;
+            let total: f64 = truth.iter().map(|t| (t - mean) * (t - mean)).sum();
+            Ok(1.0 - squared / total)
+        }
+        _ => Err(undefined(metric, "not a regression metric")),
+    }
+}
+
+// Also included by `learn::nearest_neighbors` tests: each lives in a private
+// module, so neither can reach the other's copy.
+#[cfg(test)]
+#[allow(clippy::duplicate_mod)]
+#[path = "reference_script.rs"]
+mod reference_script;
+
+#[cfg(test)]
+mod tests {
+    use ndarray::{Array2, array};
+
+    use super::*;
+
+    fn classes(labels: &[u32], probabilities: Array2<f64>) -> Predictions {
+        Predictions::Classes {
+            labels: labels.to_vec(),
+            probabilities,
+        }
+    }
+
+    /// Probabilities with 1 on each label (for the label-only metrics).
+    fn one_hot(labels: &[u32], k: usize) -> Predictions {
+        let p = Array2::from_shape_fn((labels.len(), k), |(r, c)| {
+            f64::from(u8::from(labels[r] as usize == c))
+        });
+        classes(labels, p)
+    }
+
+    /// Binary predictions from the probability of class 1.
+    fn binary(p1: &[f64]) -> Predictions {
+        let p = Array2::from_shape_fn(
+            (p1.len(), 2),
+            |(r, c)| if c == 1 { p1[r] } else { 1.0 - p1[r] },
+        );
+        let labels: Vec<u32> = p1.iter().map(|&p| u32::from(p >= 0.5)).collect();
+        classes(&labels, p)
+    }
+
+    fn close(a: f64, b: f64) -> bool {
+        (a - b).abs() <= 1e-12 * b.abs().max(1.0)
+    }
+
+    #[test]
+    fn hand_worked_confusion_matrix() {
+        // Truth (rows) by prediction (columns), worked by hand:
+        //   class 0: 2 1 1   recall 2/4   F1 = 4 / (4 + 1 + 2) = 4/7
+        //   class 1: 1 2 0   recall 2/3   F1 = 4 / (4 + 2 + 1) = 4/7
+        //   class 2: 0 1 2   recall 2/3   F1 = 4 / (4 + 1 + 1) = 2/3
+        // accuracy 6/10; balanced (1/2 + 2/3 + 2/3) / 3 = 11/18;
+        // macro F1 (4/7 + 4/7 + 2/3) / 3 = 38/63.
+        let truth = [0, 0, 0, 0, 1, 1, 1, 2, 2, 2];
+        let labels = [0, 0, 1, 2, 1, 1, 0, 2, 2, 1];
+        let p = one_hot(&labels, 3);
+        let t = Targets::Classes(&truth);
+        assert!(close(score(Metric::Accuracy, t, &p).unwrap(), 0.6));
+        assert!(close(
+            score(Metric::BalancedAccuracy, t, &p).unwrap(),
+            11.0 / 18.0
+        ));
+        assert!(close(score(Metric::MacroF1, t, &p).unwrap(), 38.0 / 63.0));
+    }
+
+    #[test]
+    fn classes_only_predicted_count_in_macro_f1_not_in_balanced_accuracy() {
+        // Class 2 is predicted once but never true: F1 0, no recall. By hand:
+        // macro F1 (2/3 + 1 + 0) / 3 = 5/9; balanced (1/2 + 1) / 2 = 3/4.
+        let truth = [0, 0, 1, 1];
+        let p = one_hot(&[0, 2, 1, 1], 3);
+        let t = Targets::Classes(&truth);
+        assert!(close(score(Metric::MacroF1, t, &p).unwrap(), 5.0 / 9.0));
+        assert!(close(score(Metric::BalancedAccuracy, t, &p).unwrap(), 0.75));
+    }
+
+    #[test]
+    fn hand_worked_log_loss_and_brier() {
+        // p(class 1) = 0.2, 0.6, 0.9 for truth 0, 1, 1: the true-class
+        // probabilities are 0.8, 0.6, 0.9, so log-loss is
+        // -(ln 0.8 + ln 0.6 + ln 0.9) / 3 = 0.279776563... and the binary
+        // Brier score (0.2^2 + 0.4^2 + 0.1^2) / 3 = 0.07. By hand.
+        let truth = [0, 1, 1];
+        let p = binary(&[0.2, 0.6, 0.9]);
+        let t = Targets::Classes(&truth);
+        let want = -(0.8f64.ln() + 0.6f64.ln() + 0.9f64.ln()) / 3.0;
+        assert!(close(score(Metric::LogLoss, t, &p).unwrap(), want));
+        assert!((want - 0.279_776_563).abs() < 1e-9);
+        assert!(close(score(Metric::Brier, t, &p).unwrap(), 0.07));
+        // A confident miss is clipped at 1e-15: -ln(1e-15) = 15 ln 10.
+        let miss = score(Metric::LogLoss, Targets::Classes(&[0]), &binary(&[1.0])).unwrap();
+        assert!(close(miss, 15.0 * 10f64.ln()));
+        // Three classes (Brier 1950): rows (0.5, 0.3, 0.2) truth 0 and
+        // (0.1, 0.1, 0.8) truth 2 give 0.25 + 0.09 + 0.04 = 0.38 and
+        // 0.01 + 0.01 + 0.04 = 0.06, mean 0.22.
+        let p = classes(&[0, 2], array![[0.5, 0.3, 0.2], [0.1, 0.1, 0.8]]);
+        assert!(close(
+            score(Metric::Brier, Targets::Classes(&[0, 2]), &p).unwrap(),
+            0.22
+        ));
+    }
+
+    #[test]
+    fn roc_auc_is_mann_whitney_u_over_n1_n0() {
+        // Common practice: AUC = U / (n1 n0). Positives 0.9, 0.8, 0.7, 0.6,
+        // 0.5, 0.4, 0.2 against 9 negatives; counting pairs by hand (ties one
+        // half): 9 + 8.5 + 8 + 7 + 6 + 5.5 + 3.5 = 47.5 of 63.
+        let scores = [
+            0.9, 0.8, 0.8, 0.7, 0.6, 0.6, 0.6, 0.5, 0.4, 0.4, 0.3, 0.2, 0.2, 0.1, 0.1, 0.05,
+        ];
+        let truth = [1, 1, 0, 1, 1, 0, 0, 1, 0, 1, 0, 0, 1, 0, 0, 0];
+        let auc = score(Metric::RocAuc, Targets::Classes(&truth), &binary(&scores)).unwrap();
+        assert!(close(auc, 47.5 / 63.0));
+        let ordered = binary(&[0.1, 0.2, 0.3]);
+        assert_eq!(
+            score(Metric::RocAuc, Targets::Classes(&[0, 1, 1]), &ordered),
+            Ok(1.0)
+        );
+        assert_eq!(
+            score(Metric::RocAuc, Targets::Classes(&[1, 0, 0]), &ordered),
+            Ok(0.0)
+        );
+        assert_eq!(
+            score(
+                Metric::RocAuc,
+                Targets::Classes(&[1, 0, 1, 0]),
+                &binary(&[0.5; 4])
+            ),
+            Ok(0.5)
+        );
+    }
+
+    #[test]
+    fn roc_auc_matches_scipy() {
+        // tests/reference/knn_auc.py: scipy.stats.mannwhitneyu U / (n1 n0),
+        // live (versions printed), binary and macro one-vs-rest.
+        let Some(reference) = reference_script::reference_output() else {
+            return;
+        };
+        let b = &reference["auc"]["binary"];
+        let truth = reference_script::codes(&b["labels"]);
+        let got = score(
+            Metric::RocAuc,
+            Targets::Classes(&truth),
+            &binary(&reference_script::floats(&b["scores"])),
+        )
+        .unwrap();
+        let want = b["auc"].as_f64().unwrap();
+        assert!(reference_script::close(got, want, 1e-12), "{got} vs {want}");
+        let m = &reference["auc"]["multiclass"];
+        let truth = reference_script::codes(&m["labels"]);
+        let rows: Vec<Vec<f64>> = m["probabilities"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(reference_script::floats)
+            .collect();
+        let p = Array2::from_shape_fn((rows.len(), 3), |(r, c)| rows[r][c]);
+        let got = score(
+            Metric::RocAuc,
+            Targets::Classes(&truth),
+            &classes(&vec![0; rows.len()], p),
+        )
+        .unwrap();
+        let want = m["macro"].as_f64().unwrap();
+        assert!(reference_script::close(got, want, 1e-12), "{got} vs {want}");
+    }
+
+    #[test]
+    fn hand_worked_regression_metrics() {
+        // Errors 0, 1, -1, 0: MSE 0.5, MAE 0.5; truth mean 2.5, SS_tot =
+        // 2.25 + 0.25 + 0.25 + 2.25 = 5, so r2 = 1 - 2/5 = 0.6. By hand.
+        let t = Targets::Values(&[1.0, 2.0, 3.0, 4.0]);
+        let p = Predictions::Values(vec![1.0, 3.0, 2.0, 4.0]);
+        assert!(close(score(Metric::Rmse, t, &p).unwrap(), 0.5f64.sqrt()));
+        assert!(close(score(Metric::Mae, t, &p).unwrap(), 0.5));
+        assert!(close(score(Metric::R2, t, &p).unwrap(), 0.6));
+    }
+
+    #[test]
+    fn undefined_cases_say_why_and_never_give_nan() {
+        let cases: Vec<(Metric, Targets<'_>, Predictions, &str)> = vec![
+            (
+                Metric::RocAuc,
+                Targets::Classes(&[1, 1]),
+                binary(&[0.2, 0.7]),
+                "fewer than two classes",
+            ),
+            (
+                Metric::R2,
+                Targets::Values(&[0.1, 0.1, 0.1]),
+                Predictions::Values(vec![0.0, 0.1, 0.2]),
+                "constant",
+            ),
+            (
+                Metric::Accuracy,
+                Targets::Classes(&[]),
+                one_hot(&[], 2),
+                "no rows",
+            ),
+            (
+                Metric::Rmse,
+                Targets::Values(&[]),
+                Predictions::Values(vec![]),
+                "no rows",
+            ),
+            (
+                Metric::Accuracy,
+                Targets::Values(&[1.0]),
+                Predictions::Values(vec![1.0]),
+                "class truth",
+            ),
+            (
+                Metric::Mae,
+                Targets::Classes(&[0]),
+                one_hot(&[0], 2),
+                "real-valued",
+            ),
+            (
+                Metric::Accuracy,
+                Targets::Classes(&[0, 1]),
+                one_hot(&[0], 2),
+                "2 rows",
+            ),
+            (
+                Metric::LogLoss,
+                Targets::Classes(&[3]),
+                one_hot(&[0], 2),
+                "class code 3",
+            ),
+            (
+                Metric::Rmse,
+                Targets::Values(&[1e300, -1e300]),
+                Predictions::Values(vec![-1e300, 1e300]),
+                "not finite",
+            ),
+        ];
+        for (metric, truth, predictions, why) in cases {
+            match score(metric, truth, &predictions) {
+                Err(ScoreError::Undefined { reason, .. }) => {
+                    assert!(reason.contains(why), "{metric:?}: {reason}")
+                }
+                other => panic!("{metric:?}: expected undefined, got {other:?}"),
+            }
+        }
+    }
 }
