@@ -642,37 +642,4 @@ mod tests {
         assert_eq!(d, 1e16);
         assert_ne!(d, 1e16 + 2.0);
     }
-
-    /// Prints brute force and k-d tree timings for the rule in
-    /// [`choose_method`]. Run with
-    /// `cargo test --release --lib crossover_timings -- --ignored --nocapture`.
-    #[test]
-    #[ignore]
-    fn crossover_timings() {
-        let mut rng = ChaCha8Rng::seed_from_u64(11);
-        let mut gauss = move || {
-            // Box-Muller from two uniforms; only for test data.
-            let u = ((rng.next_u64() >> 11) as f64 + 0.5) / (1u64 << 53) as f64;
-            let v = (rng.next_u64() >> 11) as f64 / (1u64 << 53) as f64;
-            (-2.0 * u.ln()).sqrt() * (std::f64::consts::TAU * v).cos()
-        };
-        let queries = 2000;
-        println!("dims rows brute_ms tree_ms");
-        for dims in [2, 4, 6, 8, 10, 12, 16, 32] {
-            for rows in [256, 1000, 4000, 16_000, 80_000] {
-                let x = Array2::from_shape_fn((rows, dims), |_| gauss());
-                let q = Array2::from_shape_fn((queries, dims), |_| gauss());
-                let time = |method| {
-                    let start = std::time::Instant::now();
-                    let index = Index::build(x.view(), Distance::Euclidean, method);
-                    let out = index.query_rows(q.view(), 10);
-                    (start.elapsed().as_secs_f64() * 1e3, out)
-                };
-                let (b, out_b) = time(Method::Brute);
-                let (t, out_t) = time(Method::KdTree);
-                assert_eq!(out_b, out_t);
-                println!("{dims} {rows} {b:.1} {t:.1}");
-            }
-        }
-    }
 }

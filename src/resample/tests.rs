@@ -99,6 +99,17 @@ fn within_one(d: &Data, part: &[u32]) -> bool {
     })
 }
 
+/// Each class's count in a fold is within one of its share of the folds,
+/// total / folds (the deal gives the floor or the ceiling of it).
+fn within_one_of_fold_share(d: &Data, part: &[u32], folds: usize) -> bool {
+    let all = d.count(|r| d.class[r as usize], &d.rows);
+    let got = d.count(|r| d.class[r as usize], part);
+    all.iter().all(|(c, &total)| {
+        let x = got.get(c).copied().unwrap_or(0);
+        (x * folds).abs_diff(total) < folds
+    })
+}
+
 fn size() -> impl Strategy<Value = Size> {
     prop_oneof![
         (0.05f64..0.95).prop_map(Size::Fraction),
@@ -136,7 +147,7 @@ proptest! {
             prop_assert!(!s.validation.is_empty() && disjoint(&s.train, &s.validation));
             prop_assert_eq!(s.train.len() + s.validation.len(), d.rows.len());
             prop_assert!(!grouped || groups_apart(&d, s));
-            prop_assert!(!stratify || grouped || within_one(&d, &s.validation));
+            prop_assert!(!stratify || grouped || within_one_of_fold_share(&d, &s.validation, folds));
             s.validation.iter().for_each(|&r| seen[r as usize] += 1);
         }
         for &r in &d.rows {

@@ -3,4 +3,6 @@
 
 mod support;
 
+mod ledger_flow;
 mod plan_check;
+mod tamper;
