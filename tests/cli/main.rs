@@ -5,4 +5,5 @@ mod support;
 
 mod ledger_flow;
 mod plan_check;
+mod resume;
 mod tamper;
