@@ -344,7 +344,7 @@ pub(crate) fn softmax(scores: &[Option<f64>]) -> Vec<f64> {
         .fold(f64::NEG_INFINITY, |m, &s| if s > m { s } else { m });
     let exps: Vec<f64> = scores
         .iter()
-        .map(|s| s.map_or(0.0, |s| (s - max).exp()))
+        .map(|s| s.map_or(0.0, |s| libm::exp(s - max)))
         .collect();
     let total: f64 = exps.iter().sum();
     exps.iter().map(|e| e / total).collect()

@@ -178,7 +178,7 @@ impl Fit {
             .collect();
         let log_prior = present
             .iter()
-            .map(|&(_, nk)| (nk as f64 / n).ln())
+            .map(|&(_, nk)| libm::log(nk as f64 / n))
             .collect();
         Ok(Fit {
             classes: part.classes,

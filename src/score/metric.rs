@@ -281,7 +281,7 @@ impl<'a> ClassScored<'a> {
         let mut sum = 0.0;
         for (r, &t) in self.truth.iter().enumerate() {
             let p = self.probabilities[[r, t as usize]].clamp(EPS, 1.0 - EPS);
-            sum -= p.ln();
+            sum -= libm::log(p);
         }
         sum / self.rows()
     }

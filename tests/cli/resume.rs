@@ -40,7 +40,10 @@ lambda = [0.1, 1.0, 10.0]
 "#;
 
 fn run_json(fx: &Fixture, ledger: &str, plan: &str) -> Value {
-    let (code, stdout, stderr) = run(fx.cmd().env("HOLDFAST_LEDGER", fx.path(ledger)).args(["run", plan, "--json"]));
+    let (code, stdout, stderr) = run(fx
+        .cmd()
+        .env("HOLDFAST_LEDGER", fx.path(ledger))
+        .args(["run", plan, "--json"]));
     assert_eq!(code, 0, "{stderr}");
     serde_json::from_str(&stdout).expect("json")
 }
@@ -51,7 +54,9 @@ fn a_killed_run_resumes_to_the_same_result_bytes() {
     fx.write("plan.toml", PLAN);
     let whole = run_json(&fx, "whole.sqlite", "plan.toml");
     // Kill at a random point of the run (the delay is printed so a failure can be retried).
-    let nanos = SystemTime::now().duration_since(UNIX_EPOCH).map_or(0, |d| d.subsec_nanos());
+    let nanos = SystemTime::now()
+        .duration_since(UNIX_EPOCH)
+        .map_or(0, |d| d.subsec_nanos());
     let delay = Duration::from_millis(500 + u64::from(nanos % 4000));
     eprintln!("killing the run after {delay:?}");
     let mut child = std::process::Command::new(assert_cmd::cargo::cargo_bin("holdfast"))
@@ -66,16 +71,28 @@ fn a_killed_run_resumes_to_the_same_result_bytes() {
     child.kill().expect("SIGKILL");
     let _ = child.wait();
     if fx.path("killed.sqlite").exists() {
-        let (code, _, stderr) = run(fx.cmd().env("HOLDFAST_LEDGER", fx.path("killed.sqlite")).arg("verify"));
-        assert!(code == 0 || stderr.contains("no run has recorded"), "the killed ledger verifies: {stderr}");
+        let (code, _, stderr) = run(fx
+            .cmd()
+            .env("HOLDFAST_LEDGER", fx.path("killed.sqlite"))
+            .arg("verify"));
+        assert!(
+            code == 0 || stderr.contains("no run has recorded"),
+            "the killed ledger verifies: {stderr}"
+        );
     }
     let resumed = run_json(&fx, "killed.sqlite", "plan.toml");
     assert_eq!(resumed["result_hash"], whole["result_hash"]);
     assert_eq!(resumed["jobs"], whole["jobs"]);
     let facts = &resumed["run"];
-    assert_eq!(facts["reused"].as_u64().unwrap_or(0) + facts["fresh"].as_u64().unwrap_or(0), 2700);
+    assert_eq!(
+        facts["reused"].as_u64().unwrap_or(0) + facts["fresh"].as_u64().unwrap_or(0),
+        2700
+    );
     eprintln!("resumed run reused {} jobs", facts["reused"]);
-    let (code, _, stderr) = run(fx.cmd().env("HOLDFAST_LEDGER", fx.path("killed.sqlite")).arg("verify"));
+    let (code, _, stderr) = run(fx
+        .cmd()
+        .env("HOLDFAST_LEDGER", fx.path("killed.sqlite"))
+        .arg("verify"));
     assert_eq!(code, 0, "{stderr}");
 }
 
@@ -86,10 +103,19 @@ fn another_plan_that_shares_jobs_reuses_them() {
     fx.write("a.toml", &small);
     run_json(&fx, "l.sqlite", "a.toml");
     // Same data, splits, prep and candidates, plus one more block and a new name.
-    let more = format!("{}\n[[candidates]]\nlearner = \"nearest-centroid\"\n", small.replace("name = \"resume\"", "name = \"more\""));
+    let more = format!(
+        "{}\n[[candidates]]\nlearner = \"nearest-centroid\"\n",
+        small.replace("name = \"resume\"", "name = \"more\"")
+    );
     fx.write("b.toml", &more);
-    let (code, stdout, stderr) = run(fx.cmd().env("HOLDFAST_LEDGER", fx.path("l.sqlite")).args(["run", "b.toml"]));
+    let (code, stdout, stderr) = run(fx
+        .cmd()
+        .env("HOLDFAST_LEDGER", fx.path("l.sqlite"))
+        .args(["run", "b.toml"]));
     assert_eq!(code, 0, "{stderr}");
     // a.toml: 5 splits x (17 candidates + baseline) = 90 jobs; b.toml adds 5.
-    assert!(stdout.contains("ran 95 jobs (90 reused from the ledger, 5 fresh)"), "{stdout}");
+    assert!(
+        stdout.contains("ran 95 jobs (90 reused from the ledger, 5 fresh)"),
+        "{stdout}"
+    );
 }
