@@ -18,6 +18,7 @@ pub mod learn;
 pub mod ledger;
 pub mod plan;
 pub mod prep;
+pub mod report;
 pub mod resample;
 pub mod score;
 pub mod stats;

@@ -100,6 +100,32 @@ pub enum Sub {
         #[arg(long)]
         json: bool,
     },
+    /// Write one self-contained HTML report of a selection (curves, split scores, fold map, openings)
+    Report {
+        /// Sequence number, unique hash prefix, or `latest`
+        entry: String,
+        #[arg(long, value_name = "FILE.html")]
+        out: PathBuf,
+        #[command(flatten)]
+        ledger: LedgerArg,
+        #[arg(long)]
+        json: bool,
+    },
+    /// Write a seeded synthetic data set for benchmarks (any number of rows, groups and features)
+    BenchData {
+        #[arg(long, value_name = "FILE")]
+        out: PathBuf,
+        #[arg(long, default_value_t = 10_000)]
+        rows: usize,
+        #[arg(long, default_value_t = 100)]
+        groups: usize,
+        #[arg(long, default_value_t = 5)]
+        features: usize,
+        #[arg(long, default_value_t = 2)]
+        classes: usize,
+        #[arg(long, default_value_t = 1)]
+        seed: u64,
+    },
     /// Write the wind-turbine demo data and plan into a folder and run the whole job on it
     Demo {
         /// Folder to write into (created if missing)
@@ -170,6 +196,20 @@ pub enum Command {
         ledger: Option<PathBuf>,
         json: bool,
     },
+    Report {
+        entry: String,
+        out: PathBuf,
+        ledger: Option<PathBuf>,
+        json: bool,
+    },
+    BenchData {
+        out: PathBuf,
+        rows: usize,
+        groups: usize,
+        features: usize,
+        classes: usize,
+        seed: u64,
+    },
     Demo {
         dir: PathBuf,
         json: bool,
@@ -234,6 +274,32 @@ impl From<Sub> for Command {
                 entry,
                 ledger: ledger.ledger,
                 json,
+            },
+            Sub::Report {
+                entry,
+                out,
+                ledger,
+                json,
+            } => Command::Report {
+                entry,
+                out,
+                ledger: ledger.ledger,
+                json,
+            },
+            Sub::BenchData {
+                out,
+                rows,
+                groups,
+                features,
+                classes,
+                seed,
+            } => Command::BenchData {
+                out,
+                rows,
+                groups,
+                features,
+                classes,
+                seed,
             },
             Sub::Demo { dir, json } => Command::Demo { dir, json },
         }

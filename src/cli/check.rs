@@ -153,3 +153,29 @@ pub fn demo(dir: &Path, json: bool) -> Result<(), CliError> {
     })?;
     check(&plan, json)
 }
+
+/// `holdfast bench-data`: a seeded synthetic data set for benchmarks.
+pub fn bench_data(
+    target: &Path,
+    rows: usize,
+    groups: usize,
+    features: usize,
+    classes: usize,
+    seed: u64,
+) -> Result<(), CliError> {
+    let fail = |e: std::io::Error| {
+        CliError::user(format!(
+            "failed to write {}: {e}; check the folder exists and is writable",
+            target.display()
+        ))
+    };
+    let file = std::fs::File::create(target).map_err(fail)?;
+    let mut w = std::io::BufWriter::new(file);
+    crate::demo::write_bench(&mut w, seed, rows, groups, features, classes).map_err(fail)?;
+    std::io::Write::flush(&mut w).map_err(fail)?;
+    out(&format!(
+        "wrote {} ({rows} rows, {groups} groups `unit`, order `t`, {features} features, {classes} classes `label`)",
+        target.display()
+    ));
+    Ok(())
+}

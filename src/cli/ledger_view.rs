@@ -233,3 +233,22 @@ pub fn show(spec: &str, flag: Option<&Path>, json: bool) -> Result<(), CliError>
     out(&serde_json::to_string_pretty(&v).unwrap_or_default());
     Ok(())
 }
+
+/// `holdfast report ENTRY --out FILE.html`.
+pub fn report(spec: &str, target: &Path, flag: Option<&Path>, json: bool) -> Result<(), CliError> {
+    let ledger = Ledger::open_existing(&ledger_path(flag, None))?;
+    let summary = crate::report::write_report(&ledger, spec, target).map_err(|e| CliError {
+        code: e.exit_code(),
+        message: e.to_string(),
+    })?;
+    if json {
+        return json_out(&summary);
+    }
+    out(&format!(
+        "wrote report of entry {} to {} ({})",
+        summary.entry,
+        summary.out,
+        summary.plots.join(", ")
+    ));
+    Ok(())
+}

@@ -71,6 +71,20 @@ pub fn run(command: Command) -> Result<(), CliError> {
             ledger,
             json,
         } => ledger_view::show(&entry, ledger.as_deref(), json),
+        Command::Report {
+            entry,
+            out,
+            ledger,
+            json,
+        } => ledger_view::report(&entry, &out, ledger.as_deref(), json),
+        Command::BenchData {
+            out,
+            rows,
+            groups,
+            features,
+            classes,
+            seed,
+        } => check::bench_data(&out, rows, groups, features, classes, seed),
         Command::Demo { dir, json } => check::demo(&dir, json),
     }
 }

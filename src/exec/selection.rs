@@ -50,6 +50,20 @@ pub struct CandidateSummary {
     pub active_features: Vec<usize>,
 }
 
+/// Sizes of one split, for the comparison tests (which need training and
+/// validation row counts) and the report.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct SplitFacts {
+    pub id: String,
+    pub role: Role,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub parent: Option<String>,
+    pub repeat: u32,
+    pub fold: u32,
+    pub train_rows: usize,
+    pub validation_rows: usize,
+}
+
 /// What a selection entry records.
 #[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct SelectionResult {
@@ -63,7 +77,12 @@ pub struct SelectionResult {
     pub metric: String,
     pub larger_is_better: bool,
     pub rule: String,
+    /// The resampling scheme, resolved.
+    pub scheme: crate::resample::Scheme,
+    /// Outer splits the summaries are over.
     pub splits: usize,
+    /// Every split of the job sheet, in sheet order.
+    pub split_facts: Vec<SplitFacts>,
     /// The chosen candidate's id.
     pub chosen: String,
     pub chosen_label: String,
@@ -279,7 +298,21 @@ pub fn select(
         metric: name.to_string(),
         larger_is_better: metric.larger_is_better(),
         rule: r.plan.select.rule.clone(),
+        scheme: r.plan.resample.clone(),
         splits: splits.len(),
+        split_facts: sheet
+            .splits
+            .iter()
+            .map(|s| SplitFacts {
+                id: s.id.clone(),
+                role: s.role,
+                parent: s.parent.clone(),
+                repeat: s.repeat,
+                fold: s.fold,
+                train_rows: s.train.len(),
+                validation_rows: s.validation.len(),
+            })
+            .collect(),
         chosen: candidates[chosen].id.clone(),
         chosen_label: candidates[chosen].label.clone(),
         best: candidates[best].id.clone(),
