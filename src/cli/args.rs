@@ -19,6 +19,9 @@ pub enum Sub {
     /// Validate, resolve and compile a plan; print its hash, partitions and job counts
     Check {
         plan: PathBuf,
+        /// The ledger to look in for earlier openings of the same rows
+        #[command(flatten)]
+        ledger: LedgerArg,
         #[arg(long)]
         json: bool,
     },
@@ -150,6 +153,7 @@ pub struct LedgerArg {
 pub enum Command {
     Check {
         plan: PathBuf,
+        ledger: Option<PathBuf>,
         json: bool,
     },
     Compile {
@@ -219,7 +223,11 @@ pub enum Command {
 impl From<Sub> for Command {
     fn from(sub: Sub) -> Command {
         match sub {
-            Sub::Check { plan, json } => Command::Check { plan, json },
+            Sub::Check { plan, ledger, json } => Command::Check {
+                plan,
+                ledger: ledger.ledger,
+                json,
+            },
             Sub::Compile { plan, out } => Command::Compile { plan, out },
             Sub::Run { plan, ledger, json } => Command::Run {
                 plan,

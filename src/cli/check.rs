@@ -107,14 +107,22 @@ fn print_report(c: &CheckReport) {
     out(&format!("candidates   {}{reference}", c.candidates));
     out(&format!("jobs         {}", c.jobs));
     for w in &c.warnings {
-        out(&format!("warning: {w}"));
+        super::err(&format!("warning: {w}"));
     }
 }
 
-/// `holdfast check PLAN`.
-pub fn check(path: &Path, json: bool) -> Result<(), CliError> {
+/// `holdfast check PLAN`: also warns when a ledger exists and some of the
+/// rows this plan seals were already in an opened partition.
+pub fn check(path: &Path, ledger: Option<&Path>, json: bool) -> Result<(), CliError> {
     let (resolved, sheet) = load(path)?;
-    let report = report(path, &resolved, &sheet);
+    let mut report = report(path, &resolved, &sheet);
+    let file = super::record::ledger_path(ledger, Some(path));
+    if file.exists() {
+        let ledger = crate::ledger::Ledger::open_existing(&file)?;
+        if let Some((_, w)) = crate::exec::exposure_warning(&ledger, &resolved, &sheet.sealed)? {
+            report.warnings.push(w);
+        }
+    }
     if json {
         out(&crate::canon::canonical_json(&report)?);
     } else {
@@ -143,7 +151,10 @@ pub fn compile(path: &Path, target: &Path) -> Result<(), CliError> {
     Ok(())
 }
 
-/// `holdfast demo`: for now, write the data and plan and check the plan.
+/// `holdfast demo`: write the demo data and plan, run it, open the sealed
+/// partition once and print the audit. The demo's ledger lives in the demo
+/// folder (`ledger/holdfast.sqlite`), so it never mixes with yours; on a
+/// second demo run the partition is already opened and is not opened again.
 pub fn demo(dir: &Path, json: bool) -> Result<(), CliError> {
     let plan = crate::demo::write(dir).map_err(|e| {
         CliError::user(format!(
@@ -151,7 +162,76 @@ pub fn demo(dir: &Path, json: bool) -> Result<(), CliError> {
             dir.display()
         ))
     })?;
-    check(&plan, json)
+    let ledger_file = dir.join(crate::ledger::LEDGER_FILE);
+    let ledger = crate::ledger::Ledger::open(&ledger_file)?;
+    if json {
+        return demo_json(&plan, &ledger);
+    }
+    out(&format!(
+        "wrote the demo data and plan into {}",
+        dir.display()
+    ));
+    out("");
+    check(&plan, Some(&ledger_file), false)?;
+    out("");
+    super::record::run(&plan, Some(&ledger_file), false)?;
+    out("");
+    let (r, sheet) = load(&plan)?;
+    let partition = crate::exec::partition_id(
+        &r.plan.data.file_hash,
+        &crate::exec::row_hashes(&r, &sheet.sealed),
+    );
+    if ledger.openings(&partition)?.is_empty() {
+        super::record::unseal(
+            &plan,
+            "demo: the one planned look at the sealed partition",
+            false,
+            Some(&ledger_file),
+            false,
+        )?;
+    } else {
+        out(
+            "the demo's sealed partition was opened by an earlier demo run; it is not opened again (see the audit)",
+        );
+    }
+    out("");
+    super::ledger_view::audit(Some(&plan), Some(&ledger_file), false)
+}
+
+fn demo_json(plan: &Path, ledger: &crate::ledger::Ledger) -> Result<(), CliError> {
+    let (r, sheet) = load(plan)?;
+    let checked = report(plan, &r, &sheet);
+    let ran = crate::exec::run_plan(plan, ledger, super::record::now())?;
+    let partition = crate::exec::partition_id(
+        &r.plan.data.file_hash,
+        &crate::exec::row_hashes(&r, &sheet.sealed),
+    );
+    let opening = if ledger.openings(&partition)?.is_empty() {
+        let done = crate::exec::unseal(
+            plan,
+            ledger,
+            "demo: the one planned look at the sealed partition",
+            false,
+            super::record::now(),
+        )?;
+        Some(super::view::entry_json(&done.entry))
+    } else {
+        None
+    };
+    let rows = (
+        partition,
+        r.plan.data.file_hash.clone(),
+        crate::exec::row_hashes(&r, &sheet.sealed),
+    );
+    let audit = crate::audit::audit(ledger, Some(&rows))?;
+    let all = serde_json::json!({
+        "check": checked,
+        "selection": super::view::entry_json(&ran.entry),
+        "opening": opening,
+        "audit": audit,
+    });
+    out(&crate::canon::canonical_json(&all)?);
+    Ok(())
 }
 
 /// `holdfast bench-data`: a seeded synthetic data set for benchmarks.

@@ -43,7 +43,7 @@ pub fn main() -> ExitCode {
 /// Carry out one command.
 pub fn run(command: Command) -> Result<(), CliError> {
     match command {
-        Command::Check { plan, json } => check::check(&plan, json),
+        Command::Check { plan, ledger, json } => check::check(&plan, ledger.as_deref(), json),
         Command::Compile { plan, out } => check::compile(&plan, &out),
         Command::Run { plan, ledger, json } => record::run(&plan, ledger.as_deref(), json),
         Command::Unseal {

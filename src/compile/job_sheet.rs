@@ -156,7 +156,36 @@ fn resample_error(
     table: &str,
     e: resample::ResampleError,
 ) -> CompileError {
-    CompileError::Plan(r.problem_at(key, format!("[{table}] {e}")))
+    let message = match &e {
+        // Name the class, not its code.
+        resample::ResampleError::ClassTooSmall { class, rows, folds } => {
+            let name = r
+                .plan
+                .data
+                .classes
+                .get(*class as usize)
+                .cloned()
+                .unwrap_or_else(|| class.to_string());
+            format!(
+                "class `{name}` of {} has only {rows} rows in the development partition, fewer than the {folds} folds; \
+                 use at most {rows} folds or set stratify = false",
+                r.plan.data.target
+            )
+        }
+        other => other.to_string(),
+    };
+    let key = if r.places.contains_key(key) {
+        key.to_string()
+    } else {
+        // Point at the table's first written key when the named one was not written.
+        let prefix = format!("{table}.");
+        r.places
+            .keys()
+            .find(|k| k.starts_with(&prefix))
+            .cloned()
+            .unwrap_or_default()
+    };
+    CompileError::Plan(r.problem_at(&key, format!("[{table}] {message}")))
 }
 
 /// The sealed and development partitions of the plan.

@@ -12,7 +12,9 @@ mod selection;
 
 pub use evaluate::{FitInput, OwnedTargets, Scored, evaluate_candidates};
 pub use opening::{OpeningResult, UnsealError, UnsealOutcome, latest_selection, unseal};
-pub use record::{RunError, RunFacts, RunOutcome, UNHASHED_KEYS, execute, hashed_part, run_plan};
+pub use record::{
+    RunError, RunFacts, RunOutcome, UNHASHED_KEYS, execute, exposure_warning, hashed_part, run_plan,
+};
 pub use replay::{Difference, ReplayError, ReplayReport, first_difference, replay};
 pub use runner::{JobResult, NoteRecord, RunProgress, run_jobs};
 pub use selection::{

@@ -267,11 +267,15 @@ fn reshuffled_data_and_a_new_seed_warn_with_the_exact_overlap() {
         .filter(|r| seen.contains_key(r.as_str()))
         .count();
     assert!(expected > 0, "the test needs some overlap");
+    let want = format!("{expected} of the {} sealed rows", now_sealed.len());
     let (code, _, stderr) = run(fx.cmd().args(["check", "plan2.toml"]));
     assert_eq!(code, 0, "{stderr}");
+    assert!(
+        stderr.contains(&want),
+        "check warns: wanted {want:?} in {stderr}"
+    );
     let (code, _, stderr) = run(fx.cmd().args(["run", "plan2.toml"]));
     assert_eq!(code, 0, "{stderr}");
-    let want = format!("{expected} of the {} sealed rows", now_sealed.len());
     assert!(stderr.contains(&want), "wanted {want:?} in {stderr}");
     let (code, stdout, stderr) =
         run(fx

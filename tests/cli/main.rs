@@ -3,6 +3,7 @@
 
 mod support;
 
+mod data_errors;
 mod ledger_flow;
 mod plan_check;
 mod resume;
