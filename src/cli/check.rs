@@ -24,6 +24,11 @@ pub struct CheckReport {
     pub candidates: usize,
     pub reference_candidates: usize,
     pub jobs: usize,
+    /// Learner fits the run makes (one per job; a nested refit is one fit).
+    pub fits: usize,
+    /// For nested resampling, the fits in words.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub fits_detail: Option<String>,
     pub warnings: Vec<String>,
 }
 
@@ -67,8 +72,40 @@ fn report(path: &Path, r: &Resolved, sheet: &JobSheet) -> CheckReport {
         candidates: sheet.candidates.len() - reference,
         reference_candidates: reference,
         jobs: sheet.jobs.len(),
+        fits: sheet.jobs.len(),
+        fits_detail: fits_detail(sheet),
         warnings: compile::warnings(r, sheet),
     }
+}
+
+/// Nested fits in words: outer x inner x candidates + one refit per outer
+/// split (common practice, no source) + the final choice's inner splits.
+fn fits_detail(sheet: &JobSheet) -> Option<String> {
+    let outer = sheet.outer_splits().count();
+    let refits = sheet
+        .jobs
+        .iter()
+        .filter(|j| j.candidate == compile::INNER_CHOICE)
+        .count();
+    if refits == 0 {
+        return None;
+    }
+    let inner = sheet
+        .splits
+        .iter()
+        .filter(|s| s.role == Role::Inner && s.parent.is_some())
+        .count();
+    let finals = sheet
+        .splits
+        .iter()
+        .filter(|s| s.role == Role::Inner && s.parent.is_none())
+        .count();
+    let c = sheet.candidates.len();
+    Some(format!(
+        "{outer} outer splits x {} inner splits x {c} candidates + {refits} refits (one per outer split) \
+         + {finals} splits x {c} candidates of the inner scheme on the whole development partition, which chooses the final candidate",
+        inner / outer.max(1)
+    ))
 }
 
 fn print_report(c: &CheckReport) {
@@ -106,6 +143,9 @@ fn print_report(c: &CheckReport) {
     };
     out(&format!("candidates   {}{reference}", c.candidates));
     out(&format!("jobs         {}", c.jobs));
+    if let Some(d) = &c.fits_detail {
+        out(&format!("fits         {} = {d}", c.fits));
+    }
     for w in &c.warnings {
         super::err(&format!("warning: {w}"));
     }

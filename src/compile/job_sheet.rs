@@ -12,7 +12,7 @@ use serde::Serialize;
 use crate::canon::{hash_canonical, hash_rows};
 use crate::learn::{self, Settings};
 use crate::plan::{PlanError, Resolved};
-use crate::resample::{self, Partition, Role, RowFacts, Split};
+use crate::resample::{self, Partition, Role, RowFacts, Scheme, Split};
 
 /// Version of the job sheet's canonical form.
 pub const FORMAT: u32 = 1;
@@ -200,15 +200,23 @@ pub fn partition(r: &Resolved) -> Result<Partition, CompileError> {
 }
 
 fn sheet_splits(r: &Resolved, development: &[u32]) -> Result<Vec<SheetSplit>, CompileError> {
-    let raw: Vec<Split> =
-        resample::splits(&r.plan.resample, development, facts(r), r.plan.plan.seed)
-            .map_err(|e| resample_error(r, "resample.scheme", "resample", e))?;
-    let ids: Vec<String> = raw
-        .iter()
-        .map(|s| {
-            hash_canonical(&(hash_rows(&s.train), hash_rows(&s.validation))).unwrap_or_default()
-        })
-        .collect();
+    let seed = r.plan.plan.seed;
+    let fail = |e| resample_error(r, "resample.scheme", "resample", e);
+    let mut raw: Vec<Split> =
+        resample::splits(&r.plan.resample, development, facts(r), seed).map_err(fail)?;
+    if let Scheme::Nested { inner, .. } = &r.plan.resample {
+        // The inner scheme on the whole development partition chooses the
+        // final candidate; the outer loop only estimates how well that
+        // choosing procedure does. These splits are inner with no parent.
+        let fail = |e| resample_error(r, "resample.inner.scheme", "resample.inner", e);
+        let finals = resample::splits(inner, development, facts(r), seed).map_err(fail)?;
+        raw.extend(finals.into_iter().map(|s| Split {
+            role: Role::Inner,
+            parent: None,
+            ..s
+        }));
+    }
+    let ids: Vec<String> = raw.iter().map(split_id).collect();
     Ok(raw
         .into_iter()
         .zip(ids.iter())
@@ -222,6 +230,19 @@ fn sheet_splits(r: &Resolved, development: &[u32]) -> Result<Vec<SheetSplit>, Co
             validation: s.validation,
         })
         .collect())
+}
+
+/// A split's id: BLAKE3 of its row sets, its role, and (nested) its parent's
+/// position, so that an outer split and an inner one with the same rows are
+/// still two splits.
+fn split_id(s: &Split) -> String {
+    hash_canonical(&(
+        hash_rows(&s.train),
+        hash_rows(&s.validation),
+        s.role,
+        s.parent,
+    ))
+    .unwrap_or_default()
 }
 
 fn sheet_candidates(r: &Resolved) -> Vec<SheetCandidate> {
@@ -251,13 +272,53 @@ fn sheet_candidates(r: &Resolved) -> Vec<SheetCandidate> {
 }
 
 /// Compile a resolved plan into its job sheet.
-pub fn compile(r: &Resolved) -> Result<JobSheet, CompileError> {
-    let part = partition(r)?;
-    let splits = sheet_splits(r, &part.development)?;
-    let candidates = sheet_candidates(r);
+/// The candidate id of a nested refit job: the candidate that the inner
+/// splits of its outer split choose, known only when they have run.
+pub const INNER_CHOICE: &str = "inner-choice";
+
+/// Whether the plan's scheme is nested.
+pub fn is_nested(r: &Resolved) -> bool {
+    matches!(r.plan.resample, Scheme::Nested { .. })
+}
+
+/// The id of the refit job of outer split `outer`: it hashes what decides
+/// the inner choice (the inner splits' row sets, every candidate, the rule
+/// and metric) and the outer split's rows.
+fn refit_key(
+    r: &Resolved,
+    outer: &SheetSplit,
+    inner: &[&SheetSplit],
+    candidates: &[SheetCandidate],
+) -> String {
+    let inner_rows: Vec<(String, String)> = inner
+        .iter()
+        .map(|s| (hash_rows(&s.train), hash_rows(&s.validation)))
+        .collect();
+    let ids: Vec<&str> = candidates.iter().map(|c| c.id.as_str()).collect();
+    let mut settings = Settings::new();
+    let choice = hash_canonical(&(inner_rows, ids, &r.plan.select.rule, r.plan.select.metric))
+        .unwrap_or_default();
+    settings.insert("choice".into(), crate::learn::SettingValue::Text(choice));
+    job_key(r, &outer.train, &outer.validation, INNER_CHOICE, &settings)
+}
+
+fn jobs_of(r: &Resolved, splits: &[SheetSplit], candidates: &[SheetCandidate]) -> Vec<Job> {
+    let nested = is_nested(r);
     let mut jobs = Vec::with_capacity(splits.len() * candidates.len());
-    for s in &splits {
-        for c in &candidates {
+    for s in splits {
+        if nested && s.role == Role::Outer {
+            let inner: Vec<&SheetSplit> = splits
+                .iter()
+                .filter(|i| i.parent.as_deref() == Some(s.id.as_str()))
+                .collect();
+            jobs.push(Job {
+                id: refit_key(r, s, &inner, candidates),
+                split: s.id.clone(),
+                candidate: INNER_CHOICE.into(),
+            });
+            continue;
+        }
+        for c in candidates {
             jobs.push(Job {
                 id: job_key(r, &s.train, &s.validation, &c.learner, &c.settings),
                 split: s.id.clone(),
@@ -265,6 +326,15 @@ pub fn compile(r: &Resolved) -> Result<JobSheet, CompileError> {
             });
         }
     }
+    jobs
+}
+
+/// Compile a resolved plan into its job sheet.
+pub fn compile(r: &Resolved) -> Result<JobSheet, CompileError> {
+    let part = partition(r)?;
+    let splits = sheet_splits(r, &part.development)?;
+    let candidates = sheet_candidates(r);
+    let jobs = jobs_of(r, &splits, &candidates);
     Ok(JobSheet {
         format: FORMAT,
         plan_hash: r.hash.clone(),

@@ -6,7 +6,7 @@ mod job_sheet;
 mod warnings;
 
 pub use job_sheet::{
-    CompileError, FORMAT, Job, JobSheet, SheetCandidate, SheetData, SheetSplit, compile, facts,
-    job_key, partition,
+    CompileError, FORMAT, INNER_CHOICE, Job, JobSheet, SheetCandidate, SheetData, SheetSplit,
+    compile, facts, is_nested, job_key, partition,
 };
 pub use warnings::warnings;

@@ -10,7 +10,7 @@ use std::time::Instant;
 use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
 
-use crate::compile::{JobSheet, SheetSplit};
+use crate::compile::{INNER_CHOICE, JobSheet, SheetSplit};
 use crate::learn::{Note, Settings};
 use crate::plan::Resolved;
 
@@ -122,7 +122,7 @@ pub fn run_jobs(
 ) -> Vec<JobResult> {
     let mut by_split: BTreeMap<&str, Vec<usize>> = BTreeMap::new();
     for (j, job) in sheet.jobs.iter().enumerate() {
-        if !cached.contains_key(&job.id) {
+        if !cached.contains_key(&job.id) && job.candidate != INNER_CHOICE {
             by_split.entry(job.split.as_str()).or_default().push(j);
         }
     }
@@ -135,7 +135,7 @@ pub fn run_jobs(
     let batch = (rayon::current_num_threads() * 2).max(2);
     for chunk in work.chunks(batch) {
         let advance = progress.advance();
-        let mut done: Vec<(usize, JobResult, f64)> = chunk
+        let done: Vec<(usize, JobResult, f64)> = chunk
             .par_iter()
             .flat_map_iter(|(split, todo)| {
                 let out = run_split(r, sheet, split, todo);
@@ -143,16 +143,114 @@ pub fn run_jobs(
                 out
             })
             .collect();
-        done.sort_by_key(|(j, _, _)| *j);
-        let stored: Vec<(JobResult, f64)> =
-            done.iter().map(|(_, res, s)| (res.clone(), *s)).collect();
-        progress.store(&stored);
-        fresh.extend(done.into_iter().map(|(j, res, _)| (j, res)));
+        keep(done, progress, &mut fresh);
     }
+    let refits = refit_jobs(r, sheet, cached, &fresh);
+    progress.advance()(refits.len());
+    keep(refits, progress, &mut fresh);
     sheet
         .jobs
         .iter()
         .enumerate()
         .filter_map(|(j, job)| cached.get(&job.id).cloned().or_else(|| fresh.remove(&j)))
         .collect()
+}
+
+fn keep(
+    mut done: Vec<(usize, JobResult, f64)>,
+    progress: &mut dyn RunProgress,
+    fresh: &mut BTreeMap<usize, JobResult>,
+) {
+    if done.is_empty() {
+        return;
+    }
+    done.sort_by_key(|(j, _, _)| *j);
+    let stored: Vec<(JobResult, f64)> = done.iter().map(|(_, res, s)| (res.clone(), *s)).collect();
+    progress.store(&stored);
+    fresh.extend(done.into_iter().map(|(j, res, _)| (j, res)));
+}
+
+/// Nested resampling: for each outer split whose refit is not recorded, the
+/// plan's rule over its inner splits chooses a candidate, which is fitted
+/// on the outer training part and scored on the outer validation part.
+fn refit_jobs(
+    r: &Resolved,
+    sheet: &JobSheet,
+    cached: &BTreeMap<String, JobResult>,
+    fresh: &BTreeMap<usize, JobResult>,
+) -> Vec<(usize, JobResult, f64)> {
+    let todo: Vec<usize> = (0..sheet.jobs.len())
+        .filter(|&j| {
+            sheet.jobs[j].candidate == INNER_CHOICE && !cached.contains_key(&sheet.jobs[j].id)
+        })
+        .collect();
+    if todo.is_empty() {
+        return Vec::new();
+    }
+    let known: Vec<JobResult> = sheet
+        .jobs
+        .iter()
+        .enumerate()
+        .filter_map(|(j, job)| {
+            cached
+                .get(&job.id)
+                .cloned()
+                .or_else(|| fresh.get(&j).cloned())
+        })
+        .collect();
+    todo.par_iter()
+        .map(|&j| refit(r, sheet, &known, j))
+        .collect()
+}
+
+fn refit(r: &Resolved, sheet: &JobSheet, known: &[JobResult], j: usize) -> (usize, JobResult, f64) {
+    let started = Instant::now();
+    let job = &sheet.jobs[j];
+    let mut result = JobResult {
+        id: job.id.clone(),
+        split: job.split.clone(),
+        candidate: String::new(),
+        scores: BTreeMap::new(),
+        training: BTreeMap::new(),
+        undefined: BTreeMap::new(),
+        note: NoteRecord::default(),
+        failed: None,
+    };
+    let Some(outer) = sheet.splits.iter().find(|s| s.id == job.split) else {
+        result.failed = Some("the outer split is missing from the job sheet".into());
+        return (j, result, 0.0);
+    };
+    let inner: Vec<&str> = sheet
+        .splits
+        .iter()
+        .filter(|s| s.parent.as_deref() == Some(outer.id.as_str()))
+        .map(|s| s.id.as_str())
+        .collect();
+    let choice = match super::selection::choose(r, sheet, known, &inner) {
+        Ok(c) => c,
+        Err(e) => {
+            result.failed = Some(format!("the inner splits chose nothing: {e}"));
+            return (j, result, 0.0);
+        }
+    };
+    let c = &sheet.candidates[choice.chosen];
+    result.candidate = c.id.clone();
+    let input = FitInput {
+        data: &r.data,
+        task: r.plan.task(),
+        prep: r.plan.prep,
+        train: &outer.train,
+        evaluate: &outer.validation,
+        training_scores: r.plan.select.training_scores,
+    };
+    let s = evaluate_candidates(&input, &[(c.learner.as_str(), &c.settings)])
+        .into_iter()
+        .next()
+        .unwrap_or_default();
+    result.scores = s.scores;
+    result.training = s.training;
+    result.undefined = s.undefined;
+    result.note = s.note.into();
+    result.failed = s.failed;
+    (j, result, started.elapsed().as_secs_f64())
 }

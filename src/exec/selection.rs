@@ -90,6 +90,10 @@ pub struct SelectionResult {
     pub best: String,
     pub standard_error: Option<f64>,
     pub threshold: Option<f64>,
+    /// For nested resampling: the outer loop's estimate of the whole
+    /// choosing procedure.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub nested: Option<NestedEstimate>,
     /// In candidate order.
     pub candidates: Vec<CandidateSummary>,
     /// Every job, in job order.
@@ -223,41 +227,49 @@ fn table(
         .collect()
 }
 
-/// Summarise `results` (all jobs of `sheet`, in job order) and apply the rule.
-pub fn select(
+/// What the rule chose over a set of splits.
+pub struct Choice {
+    pub candidates: Vec<CandidateSummary>,
+    pub chosen: usize,
+    pub best: usize,
+    pub standard_error: Option<f64>,
+    pub threshold: Option<f64>,
+}
+
+fn none_eligible(name: &str, candidates: &[CandidateSummary]) -> SelectError {
+    let why: Vec<String> = candidates
+        .iter()
+        .filter(|c| !c.reference)
+        .filter_map(|c| c.why_not.clone().map(|w| format!("{}: {w}", c.label)))
+        .collect();
+    let more = if why.len() > 3 {
+        format!("; and {} more", why.len() - 3)
+    } else {
+        String::new()
+    };
+    SelectError::NoneEligible {
+        metric: name.to_string(),
+        why: format!("{}{more}", why[..why.len().min(3)].join("; ")),
+    }
+}
+
+/// Summarise `results` over the splits `splits` and apply the plan's rule.
+pub fn choose(
     r: &Resolved,
     sheet: &JobSheet,
-    results: Vec<JobResult>,
-) -> Result<SelectionResult, SelectError> {
+    results: &[JobResult],
+    splits: &[&str],
+) -> Result<Choice, SelectError> {
     let metric = r.plan.select.metric;
     let name = metric.name();
-    let splits: Vec<&str> = sheet
-        .splits
-        .iter()
-        .filter(|s| s.role == Role::Outer)
-        .map(|s| s.id.as_str())
-        .collect();
-    let candidates = summarise(sheet, &results, name, &splits);
+    let candidates = summarise(sheet, results, name, splits);
     let eligible: Vec<usize> = (0..candidates.len())
         .filter(|&i| candidates[i].eligible)
         .collect();
     if eligible.is_empty() {
-        let why: Vec<String> = candidates
-            .iter()
-            .filter(|c| !c.reference)
-            .filter_map(|c| c.why_not.clone().map(|w| format!("{}: {w}", c.label)))
-            .collect();
-        let more = if why.len() > 3 {
-            format!("; and {} more", why.len() - 3)
-        } else {
-            String::new()
-        };
-        return Err(SelectError::NoneEligible {
-            metric: name.to_string(),
-            why: format!("{}{more}", why[..why.len().min(3)].join("; ")),
-        });
+        return Err(none_eligible(name, &candidates));
     }
-    let rows = table(sheet, &results, name, &splits, &eligible);
+    let rows = table(sheet, results, name, splits, &eligible);
     let direction = Direction::from_larger_is_better(metric.larger_is_better());
     let learners: Vec<u32> = eligible
         .iter()
@@ -286,7 +298,88 @@ pub fn select(
         simplicity: &simplicity,
     };
     let choice = stats::select(&ScoreTable::from_rows(&rows)?, direction, rule, facts)?;
-    let (chosen, best) = (eligible[choice.chosen], eligible[choice.best]);
+    Ok(Choice {
+        chosen: eligible[choice.chosen],
+        best: eligible[choice.best],
+        standard_error: choice.standard_error,
+        threshold: choice.threshold,
+        candidates,
+    })
+}
+
+/// The splits a selection summarises: the outer splits of a plain scheme;
+/// for nested, the inner scheme run on the whole development partition.
+pub fn selection_splits(sheet: &JobSheet, nested: bool) -> Vec<&str> {
+    sheet
+        .splits
+        .iter()
+        .filter(|s| {
+            if nested {
+                s.role == Role::Inner && s.parent.is_none()
+            } else {
+                s.role == Role::Outer
+            }
+        })
+        .map(|s| s.id.as_str())
+        .collect()
+}
+
+/// The nested estimate: each outer split's refit of its inner choice.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct NestedEstimate {
+    pub mean: Option<f64>,
+    pub sd: Option<f64>,
+    pub se: Option<f64>,
+    pub outer: Vec<OuterResult>,
+}
+
+/// One outer split of nested resampling.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct OuterResult {
+    pub split: String,
+    /// The candidate its inner splits chose (empty when none could be).
+    pub candidate: String,
+    pub score: Option<f64>,
+}
+
+fn nested_estimate(sheet: &JobSheet, results: &[JobResult], metric: &str) -> NestedEstimate {
+    let outer: Vec<OuterResult> = sheet
+        .jobs
+        .iter()
+        .zip(results)
+        .filter(|(j, _)| j.candidate == crate::compile::INNER_CHOICE)
+        .map(|(_, res)| OuterResult {
+            split: res.split.clone(),
+            candidate: res.candidate.clone(),
+            score: res.scores.get(metric).copied(),
+        })
+        .collect();
+    let values: Vec<f64> = outer.iter().filter_map(|o| o.score).collect();
+    let summary = if values.len() == outer.len() {
+        stats::summarize(&values).ok()
+    } else {
+        None
+    };
+    NestedEstimate {
+        mean: summary.as_ref().map(|s| s.mean),
+        sd: summary.as_ref().and_then(|s| s.sd),
+        se: summary.as_ref().and_then(|s| s.se),
+        outer,
+    }
+}
+
+/// Summarise `results` (all jobs of `sheet`, in job order) and apply the rule.
+pub fn select(
+    r: &Resolved,
+    sheet: &JobSheet,
+    results: Vec<JobResult>,
+) -> Result<SelectionResult, SelectError> {
+    let metric = r.plan.select.metric;
+    let name = metric.name();
+    let nested = crate::compile::is_nested(r);
+    let splits = selection_splits(sheet, nested);
+    let choice = choose(r, sheet, &results, &splits)?;
+    let (chosen, best, candidates) = (choice.chosen, choice.best, choice.candidates);
     let sealed_hashes = row_hashes(r, &sheet.sealed);
     Ok(SelectionResult {
         format: FORMAT,
@@ -318,6 +411,7 @@ pub fn select(
         best: candidates[best].id.clone(),
         standard_error: choice.standard_error,
         threshold: choice.threshold,
+        nested: nested.then(|| nested_estimate(sheet, &results, name)),
         candidates,
         jobs: results,
     })

@@ -151,6 +151,6 @@ fn the_job_sheet_of_a_fixed_plan_is_pinned() {
     let hash = blake3::hash(&bytes).to_hex().to_string();
     assert_eq!(
         hash,
-        "3407e60ce879cdef972dfb3ba832c01bdf863a06519e21dbf3df86f75b44d767"
+        "b4e60a5381f877e85d93979854533cdffb0330696abf095524965ea8044706e4"
     );
 }

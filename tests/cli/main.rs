@@ -7,4 +7,5 @@ mod data_errors;
 mod ledger_flow;
 mod plan_check;
 mod resume;
+mod schemes;
 mod tamper;
