@@ -11,12 +11,15 @@ mod runner;
 mod selection;
 
 pub use evaluate::{FitInput, OwnedTargets, Scored, evaluate_candidates};
-pub use opening::{OpeningResult, UnsealError, UnsealOutcome, latest_selection, unseal};
+pub use opening::{
+    OpeningResult, Recomputed, UnsealError, UnsealOutcome, latest_selection, recompute, unseal,
+};
 pub use record::{
     RunError, RunFacts, RunOutcome, UNHASHED_KEYS, execute, exposure_warning, hashed_part, run_plan,
 };
 pub use replay::{Difference, ReplayError, ReplayReport, first_difference, replay};
 pub use runner::{JobResult, NoteRecord, RunProgress, run_jobs};
 pub use selection::{
-    CandidateSummary, SelectError, SelectionResult, partition_id, row_hashes, select,
+    CandidateSummary, Choice, NestedEstimate, OuterResult, SelectError, SelectionResult,
+    SplitFacts, choose, partition_id, row_hashes, select, selection_splits,
 };
