@@ -266,6 +266,48 @@ pub fn recompute(
     })
 }
 
+/// What an opening records besides the recomputed numbers: the facts of
+/// the moment it was made (replay takes them from the recorded entry).
+pub struct OpeningContext {
+    pub partition: String,
+    pub selection: String,
+    pub candidate: String,
+    pub openings: usize,
+    pub reason: String,
+    pub already_seen_rows: usize,
+}
+
+/// The recorded form of an opening.
+pub fn opening_result(
+    r: &Resolved,
+    sheet: &JobSheet,
+    re: Recomputed,
+    cx: OpeningContext,
+) -> OpeningResult {
+    OpeningResult {
+        format: 1,
+        plan_hash: r.hash.clone(),
+        data_file: r.plan.data.file_hash.clone(),
+        partition: cx.partition,
+        selection: cx.selection,
+        candidate_label: sheet
+            .candidate(&cx.candidate)
+            .map(|c| c.label.clone())
+            .unwrap_or_default(),
+        candidate: cx.candidate,
+        metric: r.plan.select.metric.name().to_string(),
+        score: re.score,
+        n: sheet.sealed.len(),
+        interval: re.interval,
+        interval_note: re.interval_note,
+        bonferroni: re.bonferroni,
+        openings: cx.openings,
+        reason: cx.reason,
+        scores: re.scored.scores,
+        already_seen_rows: cx.already_seen_rows,
+    }
+}
+
 /// What unseal did.
 pub struct UnsealOutcome {
     pub entry: Entry,
@@ -317,29 +359,15 @@ pub fn unseal(
     };
     let openings = previous.len() + 1;
     let re = recompute(&r, &sheet, &chosen, openings)?;
-    let label = sheet
-        .candidate(&chosen)
-        .map(|c| c.label.clone())
-        .unwrap_or_default();
-    let opening = OpeningResult {
-        format: 1,
-        plan_hash: r.hash.clone(),
-        data_file: r.plan.data.file_hash.clone(),
+    let context = OpeningContext {
         partition: partition.clone(),
         selection: selection.hash.clone(),
         candidate: chosen,
-        candidate_label: label,
-        metric: r.plan.select.metric.name().to_string(),
-        score: re.score,
-        n: sheet.sealed.len(),
-        interval: re.interval,
-        interval_note: re.interval_note,
-        bonferroni: re.bonferroni,
         openings,
         reason: reason.to_string(),
-        scores: re.scored.scores,
         already_seen_rows: seen,
     };
+    let opening = opening_result(&r, &sheet, re, context);
     let result = serde_json::to_value(&opening).map_err(|e| RunError::Internal(e.to_string()))?;
     let result_hash =
         crate::canon::hash_canonical(&result).map_err(|e| RunError::Internal(e.to_string()))?;

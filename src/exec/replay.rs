@@ -12,7 +12,7 @@ use crate::compile;
 use crate::ledger::{Entry, EntryKind, Ledger, LedgerError};
 use crate::plan::{self, raw};
 
-use super::opening::{OpeningResult, UnsealError, recompute};
+use super::opening::{OpeningContext, UnsealError, opening_result, recompute};
 use super::record::{RunError, hashed_part};
 use super::runner::{JobResult, RunProgress, run_jobs};
 use super::selection::select;
@@ -170,28 +170,15 @@ fn recompute_opening(r: &plan::Resolved, recorded: &Value, seq: u64) -> Result<V
         });
     }
     let re = recompute(r, &sheet, &candidate, openings)?;
-    let opening = OpeningResult {
-        format: get("format").as_u64().unwrap_or(1) as u32,
-        plan_hash: r.hash.clone(),
-        data_file: r.plan.data.file_hash.clone(),
+    let context = OpeningContext {
         partition: text("partition"),
         selection: text("selection"),
-        candidate_label: sheet
-            .candidate(&candidate)
-            .map(|c| c.label.clone())
-            .unwrap_or_default(),
         candidate,
-        metric: r.plan.select.metric.name().to_string(),
-        score: re.score,
-        n: sheet.sealed.len(),
-        interval: re.interval,
-        interval_note: re.interval_note,
-        bonferroni: re.bonferroni,
         openings,
         reason: text("reason"),
-        scores: re.scored.scores,
         already_seen_rows: get("already_seen_rows").as_u64().unwrap_or(0) as usize,
     };
+    let opening = opening_result(r, &sheet, re, context);
     serde_json::to_value(&opening).map_err(|e| RunError::Internal(e.to_string()).into())
 }
 
