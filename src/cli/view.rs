@@ -97,6 +97,11 @@ fn mark(s: &SelectionResult, c: &CandidateSummary) -> String {
     if let Some(w) = c.why_not.as_ref().filter(|_| !c.reference) {
         marks.push(w.clone());
     }
+    if !c.active_features.is_empty() {
+        let n = c.active_features.len() as f64;
+        let mean = c.active_features.iter().map(|&a| a as f64).sum::<f64>() / n;
+        marks.push(format!("{mean:.1} active features"));
+    }
     if c.not_converged > 0 {
         marks.push(format!("did not converge on {} split(s)", c.not_converged));
     }

@@ -137,6 +137,44 @@ mod tests {
     use super::*;
 
     #[test]
+    fn scheme_warnings_name_the_problem() {
+        let cases: Vec<(Scheme, usize, Option<&str>)> = vec![
+            (
+                Scheme::KFold {
+                    folds: 3,
+                    repeats: 1,
+                    stratify: false,
+                },
+                100,
+                Some("3 folds"),
+            ),
+            (
+                Scheme::KFold {
+                    folds: 5,
+                    repeats: 1,
+                    stratify: false,
+                },
+                100,
+                None,
+            ),
+            (
+                Scheme::LeaveOneOut,
+                5000,
+                Some("leave-one-out on 5000 development rows"),
+            ),
+            (Scheme::LeaveOneOut, 300, None),
+        ];
+        for (scheme, rows, want) in cases {
+            let mut out = Vec::new();
+            scheme_warnings(&scheme, rows, &mut out);
+            match want {
+                Some(w) => assert!(out.iter().any(|o| o.contains(w)), "{scheme:?}: {out:?}"),
+                None => assert!(out.is_empty(), "{scheme:?}: {out:?}"),
+            }
+        }
+    }
+
+    #[test]
     fn id_like_names() {
         for (name, want) in [
             ("turbine", true),

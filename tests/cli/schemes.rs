@@ -214,3 +214,49 @@ fn check_warns_about_plans_likely_to_mislead() {
     assert_eq!(code, 0, "{stderr}");
     assert!(!stderr.contains("looks like a unit id"), "{stderr}");
 }
+
+#[test]
+fn leave_one_out_warns_that_a_validation_part_is_smaller_than_the_classes() {
+    let fx = Fixture::new();
+    fx.write(
+        "plan.toml",
+        &with_resample("[resample]\nscheme = \"leave-one-out\""),
+    );
+    let (code, _, stderr) = run(fx.cmd().args(["check", "plan.toml"]));
+    assert_eq!(code, 0, "{stderr}");
+    assert!(stderr.contains("fewer rows than the 3 classes"), "{stderr}");
+}
+
+#[test]
+fn sealing_the_last_share_by_order_seals_the_latest_rows() {
+    let fx = Fixture::new();
+    let text = PENGUINS_PLAN
+        .replace(
+            "target = \"species\"",
+            "target = \"species\"\norder = \"year\"",
+        )
+        .replace("[resample]", "[seal]\nlast = 0.3\n\n[resample]");
+    let s = sheet(&fx, &text);
+    let data = std::fs::read_to_string(fx.path("penguins.csv")).expect("data");
+    let year = |r: u64| -> u32 {
+        let line = data.lines().nth(r as usize + 1).unwrap_or_default();
+        line.rsplit(',')
+            .next()
+            .and_then(|y| y.trim().parse().ok())
+            .unwrap_or(0)
+    };
+    let sealed = rows(&s["sealed"]);
+    let development = rows(&s["development"]);
+    assert!(!sealed.is_empty());
+    // Rows sharing an order value never straddle the cut (common practice).
+    let first_sealed = sealed.iter().map(|&r| year(r)).min().unwrap_or(0);
+    let last_development = development
+        .iter()
+        .map(|&r| year(r))
+        .max()
+        .unwrap_or(u32::MAX);
+    assert!(
+        last_development < first_sealed,
+        "{last_development} vs {first_sealed}"
+    );
+}
