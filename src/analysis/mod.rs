@@ -28,9 +28,9 @@ mod fixture;
 
 pub use analysis::{
     Analysis, AnalysisError, Band, CandidateRef, FORMAT, NestedEstimate, OuterSplit, SplitScores,
-    analyse,
+    TOP_CANDIDATES, analyse, number,
 };
 pub use bootstrap::{BootstrapCandidate, BootstrapEstimates};
 pub use compare::{Comparison, TestForm, TestSetup};
-pub use curve::{Curve, CurvePoint, LeftOut, Stat};
+pub use curve::{Curve, CurvePoint, LeftOut, Stat, complexity_setting};
 pub use optimism::OptimismReport;
