@@ -271,7 +271,7 @@ fn draw(
             .disable_y_mesh()
             .x_labels(0)
             .y_labels(0)
-            .label_style(("sans-serif", 13))
+            .label_style(("sans-serif", 16))
             .axis_style(GRID)
             .draw()
             .map_err(|x| e(x.to_string()))?;

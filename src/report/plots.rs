@@ -172,7 +172,7 @@ fn x_ticks(
     y: f64,
     ticks: &[(f64, String)],
 ) -> DrawResult {
-    let style = (FONT, 13)
+    let style = (FONT, 16)
         .into_font()
         .color(&BLACK)
         .pos(Pos::new(HPos::Center, VPos::Top));
@@ -198,7 +198,7 @@ where
     X::ValueType: Clone,
     Y::ValueType: Clone,
 {
-    let style = (FONT, 13)
+    let style = (FONT, 16)
         .into_font()
         .color(&BLACK)
         .pos(Pos::new(HPos::Right, VPos::Center));
@@ -286,8 +286,8 @@ pub fn curve_plot(a: &Analysis, learner: &str, curves: &[&Curve]) -> Result<Plot
             .x_desc(x_desc)
             .y_desc(format!("{} ({direction})", a.metric))
             .y_label_formatter(&|y| format!("{y:.3}"))
-            .label_style((FONT, 13))
-            .axis_desc_style((FONT, 14))
+            .label_style((FONT, 16))
+            .axis_desc_style((FONT, 17))
             .draw()
             .map_err(e)?;
         let ticks = ticks(axis, curves, 14);
@@ -515,7 +515,7 @@ fn draw_markers(
                 chart.draw_series([Circle::new(at, 9, BEST.stroke_width(2))])?;
                 chart
                     .draw_series([EmptyElement::at(at)
-                        + Text::new("best mean", (11, -24), (FONT, 14).into_font().color(&BEST))])
+                        + Text::new("best mean", (11, -24), (FONT, 18).into_font().color(&BEST))])
                     .map(drop)
             })?;
         }
@@ -529,7 +529,7 @@ fn draw_markers(
                 chart.draw_series([Circle::new(at, 9, CHOSEN.stroke_width(3))])?;
                 chart
                     .draw_series([EmptyElement::at(at)
-                        + Text::new(text, (11, -24), (FONT, 14).into_font().color(&CHOSEN))])
+                        + Text::new(text, (11, -24), (FONT, 18).into_font().color(&CHOSEN))])
                     .map(drop)
             })?;
         }
@@ -575,8 +575,8 @@ pub fn split_plot(a: &Analysis) -> Result<Plot, ReportError> {
             .x_labels(10)
             .x_label_formatter(&|x| format!("{x:.3}"))
             .y_labels(0)
-            .label_style((FONT, 13))
-            .axis_desc_style((FONT, 14))
+            .label_style((FONT, 16))
+            .axis_desc_style((FONT, 17))
             .draw()
             .map_err(|x| e(x.to_string()))?;
         draw_splits(&fig, &mut chart, rows, (lo, hi)).map_err(|x| e(x.to_string()))?;

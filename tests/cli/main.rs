@@ -5,5 +5,6 @@ mod support;
 
 mod ledger_flow;
 mod plan_check;
+mod report;
 mod resume;
 mod tamper;
