@@ -37,6 +37,21 @@ fn opt(v: Option<f64>) -> String {
     v.map_or_else(|| "\u{2013}".into(), number)
 }
 
+/// A number for a table column: three decimals always (a rounding residue
+/// such as 1e-17 reads as 0.000), and no negative zero.
+fn fixed(x: f64) -> String {
+    let text = format!("{x:.3}");
+    if text == "-0.000" {
+        "0.000".into()
+    } else {
+        text
+    }
+}
+
+fn opt_fixed(v: Option<f64>) -> String {
+    v.map_or_else(|| "\u{2013}".into(), fixed)
+}
+
 fn p_value(p: f64) -> String {
     if p < 0.001 {
         "&lt; 0.001".into()
@@ -286,7 +301,7 @@ fn comparisons(page: &mut String, a: &Analysis) {
             class.to_string()
         };
         let iv = x.interval.as_ref().map_or("\u{2013}".into(), |i| {
-            format!("{} to {}", number(i.low), number(i.high))
+            format!("{} to {}", fixed(i.low), fixed(i.high))
         });
         let tag = if x.reference {
             " <span class=\"tag\">baseline</span>"
@@ -298,8 +313,8 @@ fn comparisons(page: &mut String, a: &Analysis) {
         page.push_str(&format!(
             "<tr class=\"{class}\"><td>{}{tag}</td><td>{}</td><td>{}</td><td>{iv}</td><td>{}</td><td>{}</td></tr>\n",
             escape(&x.label),
-            opt(x.mean),
-            opt(x.difference),
+            opt_fixed(x.mean),
+            opt_fixed(x.difference),
             x.p.map_or("\u{2013}".into(), p_value),
             escape(&text)
         ));
@@ -498,6 +513,13 @@ mod tests {
             escape("a<b & \"c\" 'd'>"),
             "a&lt;b &amp; &quot;c&quot; &#39;d&#39;&gt;"
         );
+    }
+
+    #[test]
+    fn table_numbers_have_three_decimals() {
+        assert_eq!(fixed(1.1e-17), "0.000");
+        assert_eq!(fixed(-1e-9), "0.000");
+        assert_eq!(fixed(-0.0125), "-0.013");
     }
 
     #[test]

@@ -148,8 +148,10 @@ fn pad(lo: f64, hi: f64) -> (f64, f64) {
     (lo - 0.06 * span, hi + 0.06 * span)
 }
 
-/// Tick positions and labels at the curves' own values, at most `max`
-/// of them (every n-th value, the first always kept).
+/// Tick positions and labels at the curves' own values, at most about
+/// `max` of them: a value is labelled when it lies at least 1/`max` of the
+/// axis from the last labelled one (so a log axis is not crowded at one
+/// end).
 fn ticks(axis: Axis, curves: &[&Curve], max: usize) -> Vec<(f64, String)> {
     let mut values: Vec<f64> = curves
         .iter()
@@ -157,12 +159,19 @@ fn ticks(axis: Axis, curves: &[&Curve], max: usize) -> Vec<(f64, String)> {
         .collect();
     values.sort_by(|a, b| axis.pos(*a).total_cmp(&axis.pos(*b)));
     values.dedup();
-    let step = values.len().div_ceil(max.max(1)).max(1);
-    values
-        .into_iter()
-        .step_by(step)
-        .map(|v| (axis.pos(v), short(v)))
-        .collect()
+    let (first, last) = match (values.first(), values.last()) {
+        (Some(&a), Some(&b)) => (axis.pos(a), axis.pos(b)),
+        _ => return Vec::new(),
+    };
+    let gap = (last - first) / max.max(1) as f64;
+    let mut out: Vec<(f64, String)> = Vec::new();
+    for v in values {
+        let x = axis.pos(v);
+        if out.last().is_none_or(|(prev, _)| x - prev >= gap) {
+            out.push((x, short(v)));
+        }
+    }
+    out
 }
 
 /// Tick marks and labels under the plotting area at `ticks`.
@@ -274,8 +283,9 @@ pub fn curve_plot(a: &Analysis, learner: &str, curves: &[&Curve]) -> Result<Plot
             "lower is better"
         };
         let scale = if log { ", log scale" } else { "" };
+        let gap = "\u{a0}".repeat(8);
         let x_desc = format!(
-            "\u{2190} simpler (under-fits)          {setting}{scale}          more complex (over-fits) \u{2192}"
+            "\u{2190} simpler (under-fits){gap}{setting}{scale}{gap}more complex (over-fits) \u{2192}"
         );
         chart
             .configure_mesh()
@@ -552,10 +562,15 @@ pub fn split_plot(a: &Analysis) -> Result<Plot, ReportError> {
     let (fig, backend) = Figure::new((WIDTH, height));
     let e = |err: String| draw_error(&name, err);
     {
-        let (lo, hi) = score_range(rows);
+        let off = off_scale(rows);
+        let (lo, hi) = score_range(rows, &off);
         let root = backend.into_drawing_area();
         root.fill(&WHITE).map_err(|x| e(x.to_string()))?;
-        let labels: Vec<String> = rows.iter().map(row_label).collect();
+        let labels: Vec<String> = rows
+            .iter()
+            .zip(&off)
+            .map(|(r, &o)| row_label(r, o))
+            .collect();
         let mut chart = ChartBuilder::on(&root)
             .margin(14)
             .x_label_area_size(44)
@@ -579,7 +594,7 @@ pub fn split_plot(a: &Analysis) -> Result<Plot, ReportError> {
             .axis_desc_style((FONT, 17))
             .draw()
             .map_err(|x| e(x.to_string()))?;
-        draw_splits(&fig, &mut chart, rows, (lo, hi)).map_err(|x| e(x.to_string()))?;
+        draw_splits(&fig, &mut chart, rows, &off, (lo, hi)).map_err(|x| e(x.to_string()))?;
         let at: Vec<(f64, String)> = labels
             .into_iter()
             .enumerate()
@@ -603,10 +618,14 @@ pub fn split_plot(a: &Analysis) -> Result<Plot, ReportError> {
     })
 }
 
-fn row_label(s: &SplitScores) -> String {
-    let mut label: String = s.label.chars().take(44).collect();
-    if s.label.chars().count() > 44 {
+fn row_label(s: &SplitScores, off: bool) -> String {
+    let mut label: String = s.label.chars().take(48).collect();
+    if s.label.chars().count() > 48 {
         label.push('\u{2026}');
+    }
+    if off {
+        let mean = s.mean.map_or("-".into(), crate::analysis::number);
+        return format!("{label}  [baseline, mean {mean}, off the scale]");
     }
     match (s.chosen, s.best, s.reference) {
         (true, _, _) => format!("{label}  [chosen]"),
@@ -616,12 +635,34 @@ fn row_label(s: &SplitScores) -> String {
     }
 }
 
-fn score_range(rows: &[SplitScores]) -> (f64, f64) {
-    let all = rows.iter().flat_map(|r| r.scores.iter().flatten().copied());
-    let (lo, hi) = all.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), x| {
-        (a.min(x), b.max(x))
-    });
+fn score_range(rows: &[SplitScores], off: &[bool]) -> (f64, f64) {
+    let (lo, hi) = span(rows.iter().zip(off).filter(|(_, o)| !**o).map(|(r, _)| r));
     pad(lo, hi)
+}
+
+fn span<'a>(rows: impl Iterator<Item = &'a SplitScores>) -> (f64, f64) {
+    let all = rows.flat_map(|r| r.scores.iter().flatten().copied());
+    all.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), x| {
+        (a.min(x), b.max(x))
+    })
+}
+
+/// Which rows are left off the scale: a baseline row with a score more
+/// than half the other rows' span beyond them (drawing it would squeeze
+/// the candidates that matter into a corner).
+fn off_scale(rows: &[SplitScores]) -> Vec<bool> {
+    let (lo, hi) = span(rows.iter().filter(|r| !r.reference));
+    let reach = 0.5 * (hi - lo).max(0.0);
+    rows.iter()
+        .map(|r| {
+            r.reference
+                && lo.is_finite()
+                && r.scores
+                    .iter()
+                    .flatten()
+                    .any(|&s| s < lo - reach || s > hi + reach)
+        })
+        .collect()
 }
 
 type SplitChart<'a> = Chart<'a, 'a>;
@@ -630,6 +671,7 @@ fn draw_splits(
     fig: &Figure,
     chart: &mut SplitChart<'_>,
     rows: &[SplitScores],
+    off: &[bool],
     (lo, hi): (f64, f64),
 ) -> DrawResult {
     let n = rows.len();
@@ -659,13 +701,14 @@ fn draw_splits(
                 let path: Vec<(f64, f64)> = rows
                     .iter()
                     .enumerate()
+                    .filter(|(i, _)| !off[*i])
                     .filter_map(|(i, r)| r.scores[j].map(|s| (s, y(i, j))))
                     .collect();
                 PathElement::new(path, PAIRING.stroke_width(1))
             }))
             .map(drop)
     })?;
-    for (i, r) in rows.iter().enumerate() {
+    for (i, r) in rows.iter().enumerate().filter(|(i, _)| !off[*i]) {
         let colour = if r.reference {
             MUTED
         } else if r.chosen {
