@@ -512,20 +512,40 @@ fn draw_curve(
     })
 }
 
+/// Where a marker's label goes: up and to the right of the point, or to
+/// the left near the right edge so it is not cut off.
+fn label_place(right_side: bool, colour: RGBColor) -> ((i32, i32), TextStyle<'static>) {
+    let (dx, h) = if right_side {
+        (-11, HPos::Right)
+    } else {
+        (11, HPos::Left)
+    };
+    let style = (FONT, 18)
+        .into_font()
+        .color(&colour)
+        .pos(Pos::new(h, VPos::Bottom));
+    ((dx, -12), style)
+}
+
 fn draw_markers(
     fig: &Figure,
     chart: &mut Chart<'_, '_>,
     axis: Axis,
     curves: &[&Curve],
 ) -> DrawResult {
+    let (x0, x1) = {
+        let r = chart.x_range();
+        (r.start, r.end)
+    };
     for p in curves.iter().flat_map(|c| c.points.iter()) {
         let at = (axis.pos(p.value), p.validation.mean);
+        let right = at.0 > x0 + 0.7 * (x1 - x0);
         if p.best && !p.chosen {
             fig.tagged("marker best", || {
                 chart.draw_series([Circle::new(at, 9, BEST.stroke_width(2))])?;
+                let (offset, style) = label_place(right, BEST);
                 chart
-                    .draw_series([EmptyElement::at(at)
-                        + Text::new("best mean", (11, -24), (FONT, 18).into_font().color(&BEST))])
+                    .draw_series([EmptyElement::at(at) + Text::new("best mean", offset, style)])
                     .map(drop)
             })?;
         }
@@ -537,9 +557,9 @@ fn draw_markers(
             };
             fig.tagged("marker chosen", || {
                 chart.draw_series([Circle::new(at, 9, CHOSEN.stroke_width(3))])?;
+                let (offset, style) = label_place(right, CHOSEN);
                 chart
-                    .draw_series([EmptyElement::at(at)
-                        + Text::new(text, (11, -24), (FONT, 18).into_font().color(&CHOSEN))])
+                    .draw_series([EmptyElement::at(at) + Text::new(text, offset, style)])
                     .map(drop)
             })?;
         }

@@ -305,6 +305,33 @@ fn the_page_loads_nothing_from_outside() {
     }
 }
 
+#[test]
+fn a_bootstrap_selection_has_632_estimates_per_candidate() {
+    let fx = Fixture::new();
+    let plan = PLAN
+        .replace("folds = 5", "scheme = \"bootstrap\"\nsplits = 8")
+        .replace("rule = \"one-standard-error\"", "rule = \"best\"");
+    fx.write("plan.toml", &plan);
+    let run = json(&ok(&fx, &["run", "plan.toml", "--json"]));
+    let (_, html) = report(&fx, "latest");
+    let section = &html[html
+        .find("<section id=\"bootstrap\">")
+        .expect("bootstrap section")..];
+    let section = &section[..section.find("</section>").expect("end")];
+    // One row per eligible candidate and one for the baseline.
+    let eligible = run["candidates"]
+        .as_array()
+        .into_iter()
+        .flatten()
+        .filter(|c| c["eligible"] == true)
+        .count();
+    assert_eq!(section.matches("<tr").count() - 1, eligible + 1);
+    assert!(section.contains("resubstitution error on the bootstrap samples"));
+    assert!(section.contains("The .632+ estimate needs the no-information error rate"));
+    // No one-standard-error band under the best rule.
+    assert!(!html.contains("class=\"band one-se\""));
+}
+
 // --- the browser check -------------------------------------------------
 
 /// The chromium binary, if one is installed.
