@@ -6,6 +6,7 @@
 //! candidates, jobs) -> `exec` (runs jobs) -> `ledger` (hash-chained record).
 //! Every module below owns one domain noun; `cli` only parses and prints.
 
+pub mod analysis;
 pub mod audit;
 pub mod canon;
 pub mod cli;

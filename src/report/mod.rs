@@ -1,43 +1,25 @@
-//! The report: one self-contained HTML file for a ledger entry. (Being built.)
+//! The report: one self-contained HTML file for a selection entry (or an
+//! opening entry, reported through its selection), with inline SVG plots
+//! drawn by plotters, tables, and the record of the ledger.
+//!
+//! The page needs no network and no script: styles are inline, plots are
+//! inline SVG, fonts are the reader's own sans-serif. Every plot has a
+//! stable id (`plot-...`) and class, and every data point is an element of
+//! its own with a class (`point validation`, `point training`,
+//! `point split-score`, `cell training`, ...) so tests can count them.
+//!
+//! Invariants: the page is built from the ledger alone, except the fold
+//! map, which re-resolves the recorded plan against its data file (as
+//! replay does) and is left out, with the reason, when the file is missing
+//! or no longer the recorded one; nothing is appended to the ledger; the
+//! same ledger gives the same bytes.
 
-use std::path::Path;
+mod error;
+mod fold_map;
+mod page;
+mod plots;
+mod svg;
+mod write;
 
-use serde::Serialize;
-
-use crate::ledger::{Ledger, LedgerError};
-
-/// What `report` wrote.
-#[derive(Clone, Debug, PartialEq, Serialize)]
-pub struct ReportSummary {
-    /// The file written.
-    pub out: String,
-    /// The entry reported on.
-    pub entry: u64,
-    /// Names of the plots in the file, in page order.
-    pub plots: Vec<String>,
-}
-
-/// Why a report could not be written.
-#[derive(Debug, thiserror::Error)]
-pub enum ReportError {
-    #[error("{0}")]
-    Ledger(#[from] LedgerError),
-    #[error("the report is not built yet")]
-    NotBuilt,
-}
-
-impl ReportError {
-    /// The exit code this error maps to.
-    pub fn exit_code(&self) -> u8 {
-        match self {
-            ReportError::Ledger(e) => e.exit_code(),
-            ReportError::NotBuilt => crate::exit::INTERNAL,
-        }
-    }
-}
-
-/// Write the report of entry `spec` of `ledger` to `out`.
-pub fn write_report(ledger: &Ledger, spec: &str, out: &Path) -> Result<ReportSummary, ReportError> {
-    let _ = (ledger.entry(spec)?, out);
-    Err(ReportError::NotBuilt)
-}
+pub use error::ReportError;
+pub use write::{ReportSummary, write_report};

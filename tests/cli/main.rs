@@ -6,6 +6,7 @@ mod support;
 mod data_errors;
 mod ledger_flow;
 mod plan_check;
+mod report;
 mod resume;
 mod schemes;
 mod tamper;
