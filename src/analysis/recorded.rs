@@ -56,6 +56,8 @@ pub(super) struct RecordedSplit {
     pub id: String,
     pub role: String,
     #[serde(default)]
+    pub parent: Option<String>,
+    #[serde(default)]
     pub repeat: u32,
     #[serde(default)]
     pub fold: u32,
@@ -147,8 +149,22 @@ impl Recorded {
         self.candidates.iter().position(|c| c.id == id)
     }
 
+    /// The splits the selection summarised: the outer splits of a plain
+    /// scheme; for nested, the inner scheme on the whole development
+    /// partition (inner splits without a parent), which chose the final
+    /// candidate (the outer splits score refits of inner choices instead).
     pub fn outer_splits(&self) -> impl Iterator<Item = &RecordedSplit> {
-        self.split_facts.iter().filter(|s| s.role == "outer")
+        let nested = self
+            .split_facts
+            .iter()
+            .any(|s| s.role == "inner" && s.parent.is_none());
+        self.split_facts.iter().filter(move |s| {
+            if nested {
+                s.role == "inner" && s.parent.is_none()
+            } else {
+                s.role == "outer"
+            }
+        })
     }
 
     /// The scores of `metric` (the selection's, or any other the jobs

@@ -95,8 +95,27 @@ pub fn run(plan: &Path, flag: Option<&Path>, json: bool) -> Result<(), CliError>
             "smaller is better"
         }
     ));
-    out(&selection_table(s));
+    let analysis = super::view::analysis_of(&done.entry);
+    out(&selection_table(s, analysis.as_ref().ok()));
     out(&format!("chosen: {}", s.chosen_label));
+    match &analysis {
+        Ok(a) => {
+            out(&a.optimism.sentence);
+            out(&format!(
+                "`~` marks candidates not distinguishable from the chosen one ({}; p >= 0.05, not adjusted for the number of comparisons)",
+                a.test.description
+            ));
+        }
+        Err(why) => err(&format!("warning: no comparisons: {why}")),
+    }
+    if let Some(n) = &s.nested {
+        out(&format!(
+            "nested estimate of the whole choosing procedure: {} (se {}) over {} outer splits",
+            num(n.mean),
+            num(n.se),
+            n.outer.len()
+        ));
+    }
     out(&format!(
         "recorded selection entry {} ({}) in {}",
         done.entry.seq,

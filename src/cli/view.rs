@@ -5,6 +5,7 @@ use serde_json::{Map, Value};
 use tabled::settings::Style;
 use tabled::{Table, Tabled};
 
+use crate::analysis::Analysis;
 use crate::exec::{CandidateSummary, SelectionResult};
 use crate::ledger::{Entry, timestamp_text};
 
@@ -43,7 +44,23 @@ pub fn entry_json(e: &Entry) -> Value {
             Value::from(e.sealed_rows.clone()),
         );
     }
+    if e.kind == crate::ledger::EntryKind::Selection {
+        // Computed from the recorded result each time it is shown (never
+        // hashed): the same numbers the report draws.
+        match analysis_of(e) {
+            Ok(a) => map.insert(
+                "analysis".into(),
+                serde_json::to_value(a).unwrap_or_default(),
+            ),
+            Err(why) => map.insert("analysis_error".into(), Value::from(why)),
+        };
+    }
     Value::Object(map)
+}
+
+/// The analysis of a selection entry (comparisons, optimism, curves).
+pub fn analysis_of(e: &Entry) -> Result<Analysis, String> {
+    crate::analysis::analyse(&crate::exec::hashed_part(&e.body)).map_err(|err| err.to_string())
 }
 
 /// A number for a table: 4 decimals, or a dash.
@@ -84,8 +101,21 @@ pub fn ranked(s: &SelectionResult) -> Vec<&CandidateSummary> {
     list
 }
 
-fn mark(s: &SelectionResult, c: &CandidateSummary) -> String {
+fn mark(s: &SelectionResult, c: &CandidateSummary, a: Option<&Analysis>) -> String {
     let mut marks = Vec::new();
+    let comparison = a.and_then(|a| a.comparisons.iter().find(|x| x.candidate == c.id));
+    if let Some(x) = comparison {
+        match (x.distinguishable, x.p) {
+            (Some(false), Some(p)) => {
+                marks.push(format!("~ not distinguishable from chosen (p {p:.2})"))
+            }
+            (Some(true), Some(p)) if p < 0.001 => {
+                marks.push("worse than chosen (p < 0.001)".to_string())
+            }
+            (Some(true), Some(p)) => marks.push(format!("worse than chosen (p {p:.3})")),
+            _ => {}
+        }
+    }
     if c.id == s.chosen {
         marks.push("<- chosen".to_string());
     } else if c.id == s.best {
@@ -108,8 +138,9 @@ fn mark(s: &SelectionResult, c: &CandidateSummary) -> String {
     marks.join("; ")
 }
 
-/// The selection table.
-pub fn selection_table(s: &SelectionResult) -> String {
+/// The selection table; with the analysis, candidates not distinguishable
+/// from the chosen one (corrected resampled t-test, p >= 0.05) are marked `~`.
+pub fn selection_table(s: &SelectionResult, a: Option<&Analysis>) -> String {
     let rows: Vec<Row> = ranked(s)
         .into_iter()
         .enumerate()
@@ -121,7 +152,7 @@ pub fn selection_table(s: &SelectionResult) -> String {
             se: num(c.se),
             train: num(c.training_mean),
             splits: c.scored_splits.to_string(),
-            mark: mark(s, c),
+            mark: mark(s, c, a),
         })
         .collect();
     Table::new(rows).with(Style::sharp()).to_string()

@@ -17,7 +17,7 @@ pub use opening::{
 pub use record::{
     RunError, RunFacts, RunOutcome, UNHASHED_KEYS, execute, exposure_warning, hashed_part, run_plan,
 };
-pub use replay::{Difference, ReplayError, ReplayReport, first_difference, replay};
+pub use replay::{Difference, ReplayError, ReplayReport, first_difference, recorded_plan, replay};
 pub use runner::{JobResult, NoteRecord, RunProgress, run_jobs};
 pub use selection::{
     CandidateSummary, Choice, NestedEstimate, OuterResult, SelectError, SelectionResult,

@@ -47,7 +47,7 @@ pub enum ReplayError {
     #[error("{0}")]
     Unseal(#[from] UnsealError),
     #[error(
-        "data file {path} now has fingerprint {now}, but entry {seq} recorded {recorded}; replay needs the data file as it was"
+        "data file {path} now has fingerprint {now}, but entry {seq} recorded {recorded}: it is not the data the entry used; restore that file to replay or report it"
     )]
     DataChanged {
         path: String,
@@ -55,9 +55,7 @@ pub enum ReplayError {
         now: String,
         recorded: String,
     },
-    #[error(
-        "failed to read data file {path}: {message}; replay needs the data file entry {seq} used"
-    )]
+    #[error("failed to read data file {path}: {message}; entry {seq} needs the data file it used")]
     DataMissing {
         path: String,
         seq: u64,
@@ -111,7 +109,10 @@ pub fn first_difference(a: &Value, b: &Value, path: &str) -> Option<Difference> 
     }
 }
 
-fn recorded_plan(entry: &Entry) -> Result<plan::Resolved, ReplayError> {
+/// The plan an entry recorded (its `plan_text`, at its recorded plan path),
+/// resolved against its data file, which must still have the recorded
+/// fingerprint; the plan must still resolve to the recorded plan hash.
+pub fn recorded_plan(entry: &Entry) -> Result<plan::Resolved, ReplayError> {
     let seq = entry.seq;
     let text = entry
         .body

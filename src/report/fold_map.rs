@@ -14,15 +14,12 @@
 //! to validation, then training, sealed, unused); runs of one role are one
 //! `cell <role>` element.
 
-use std::path::PathBuf;
-
 use plotters::prelude::*;
-use serde_json::Value;
 
 use crate::analysis::Analysis;
 use crate::compile::{self, JobSheet};
 use crate::ledger::Entry;
-use crate::plan::{self, Resolved, raw};
+use crate::plan::Resolved;
 use crate::resample::Scheme;
 
 use super::plots::{GRID, Key, Plot, Swatch, WIDTH, draw_error, row_labels};
@@ -50,30 +47,7 @@ pub struct FoldMap {
 
 /// The recorded plan, resolved against its data as replay does.
 fn recorded_plan(entry: &Entry) -> Result<Resolved, String> {
-    let text = entry
-        .body
-        .get("plan_text")
-        .and_then(Value::as_str)
-        .ok_or("the entry does not record its plan text")?;
-    let plan_path = PathBuf::from(&entry.provenance.plan_path);
-    let parsed = raw::parse(&plan_path, text)
-        .map_err(|e| format!("the recorded plan no longer parses: {e}"))?;
-    let folder = plan_path.parent().map(PathBuf::from).unwrap_or_default();
-    let data_path = folder.join(parsed.raw.data_path.clone().unwrap_or_default());
-    let bytes = std::fs::read(&data_path)
-        .map_err(|e| format!("the data file {} cannot be read ({e})", data_path.display()))?;
-    if crate::canon::hash_bytes(&bytes) != entry.data_file {
-        return Err(format!(
-            "the data file {} is no longer the one the entry used (its fingerprint differs)",
-            data_path.display()
-        ));
-    }
-    let resolved = plan::resolve(&plan_path, parsed)
-        .map_err(|e| format!("the recorded plan no longer resolves: {e}"))?;
-    if resolved.hash != entry.plan_hash {
-        return Err("the recorded plan now resolves to a different plan hash".into());
-    }
-    Ok(resolved)
+    crate::exec::recorded_plan(entry).map_err(|e| e.to_string())
 }
 
 fn cuts_by_time(s: &Scheme) -> bool {

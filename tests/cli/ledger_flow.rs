@@ -76,6 +76,19 @@ fn run_records_a_selection_that_show_prints_the_same() {
     );
     let shown = json(&ok(&fx, &["show", "latest", "--json"]));
     assert_eq!(shown, ran);
+    // The comparisons the table marks are in the JSON too (not hashed).
+    let comparisons = ran["analysis"]["comparisons"]
+        .as_array()
+        .expect("comparisons");
+    assert_eq!(comparisons.len(), 5, "4 other candidates and the baseline");
+    let baseline = comparisons
+        .iter()
+        .find(|c| c["reference"] == true)
+        .expect("baseline compared");
+    assert_eq!(
+        baseline["distinguishable"], true,
+        "the chosen candidate beats the baseline: {baseline}"
+    );
     let table = ok(&fx, &["run", "plan.toml"]);
     assert!(
         table.contains("30 reused from the ledger, 0 fresh"),
@@ -83,6 +96,8 @@ fn run_records_a_selection_that_show_prints_the_same() {
     );
     assert!(table.contains("baseline"), "{table}");
     assert!(table.contains("<- chosen"), "{table}");
+    assert!(table.contains("worse than chosen"), "{table}");
+    assert!(table.contains("is optimistic"), "{table}");
 }
 
 #[test]
