@@ -12,30 +12,9 @@ use ndarray::{Array2, ArrayView2};
 
 use crate::learn::{LearnError, SettingSpec, SettingValue, Settings, Targets, Task, TrainPart};
 
-/// A copy of `error` (the shared type is not `Clone`), so that one failure
-/// can fill the slot of every candidate of a family.
-pub(crate) fn copy_error(error: &LearnError) -> LearnError {
-    match error {
-        LearnError::Setting {
-            learner,
-            setting,
-            message,
-        } => LearnError::Setting {
-            learner,
-            setting: setting.clone(),
-            message: message.clone(),
-        },
-        LearnError::Task { learner, task } => LearnError::Task { learner, task },
-        LearnError::Data { learner, message } => LearnError::Data {
-            learner,
-            message: message.clone(),
-        },
-    }
-}
-
 /// `error` in the slot of every one of `count` candidates.
 pub(crate) fn fail_all<T>(error: &LearnError, count: usize) -> Vec<Result<T, LearnError>> {
-    (0..count).map(|_| Err(copy_error(error))).collect()
+    (0..count).map(|_| Err(error.clone())).collect()
 }
 
 /// A data error of `learner`.

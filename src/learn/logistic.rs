@@ -56,7 +56,6 @@
 use nalgebra::DMatrix;
 use ndarray::{Array2, ArrayView1, ArrayView2};
 
-use super::ridge::copy_error;
 use super::ridge::numeric::{
     Svd, check_inputs, column_means, column_scales, exp, ln, read_nonnegative,
 };
@@ -522,7 +521,7 @@ impl Learner for Logistic {
     ) -> Vec<Result<Outcome, LearnError>> {
         let data = match Prepared::new(task, train, queries) {
             Ok(data) => data,
-            Err(e) => return family.iter().map(|_| Err(copy_error(&e))).collect(),
+            Err(e) => return family.iter().map(|_| Err(e.clone())).collect(),
         };
         family
             .iter()

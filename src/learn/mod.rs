@@ -100,7 +100,7 @@ pub struct Outcome {
 }
 
 /// Why a learner could not produce an outcome.
-#[derive(Debug, thiserror::Error, PartialEq)]
+#[derive(Clone, Debug, thiserror::Error, PartialEq)]
 pub enum LearnError {
     /// The candidate's settings are invalid for this learner.
     #[error("learner {learner}: setting {setting}: {message}")]

@@ -215,7 +215,7 @@ impl Learner for Ridge {
         };
         let fit = match fit {
             Ok(fit) => fit,
-            Err(e) => return family.iter().map(|_| Err(copy_error(&e))).collect(),
+            Err(e) => return family.iter().map(|_| Err(e.clone())).collect(),
         };
         let note = fit.note();
         family
@@ -233,26 +233,6 @@ impl Learner for Ridge {
                 })
             })
             .collect()
-    }
-}
-
-/// `LearnError` is not `Clone`; a family-wide failure goes into every slot.
-pub(super) fn copy_error(e: &LearnError) -> LearnError {
-    match e {
-        LearnError::Setting {
-            learner,
-            setting,
-            message,
-        } => LearnError::Setting {
-            learner,
-            setting: setting.clone(),
-            message: message.clone(),
-        },
-        LearnError::Task { learner, task } => LearnError::Task { learner, task },
-        LearnError::Data { learner, message } => LearnError::Data {
-            learner,
-            message: message.clone(),
-        },
     }
 }
 

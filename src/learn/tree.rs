@@ -20,7 +20,6 @@ use ndarray::{Array2, ArrayView2};
 
 use grow::{Grown, NodeValue, Response};
 
-use super::ridge::copy_error;
 use super::ridge::numeric::check_inputs;
 use super::{
     LearnError, Learner, Note, Outcome, Predictions, SettingDefault, SettingKind, SettingSpec,
@@ -203,7 +202,7 @@ impl Learner for Tree {
     ) -> Vec<Result<Outcome, LearnError>> {
         let y = match prepare(task, train, queries) {
             Ok(y) => y,
-            Err(e) => return family.iter().map(|_| Err(copy_error(&e))).collect(),
+            Err(e) => return family.iter().map(|_| Err(e.clone())).collect(),
         };
         let shapes: Vec<Result<Shape, LearnError>> = family.iter().map(read_shape).collect();
         let mut deepest = std::collections::BTreeMap::<usize, usize>::new();
