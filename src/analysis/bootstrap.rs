@@ -62,7 +62,8 @@ pub(super) const NOTE: &str = "the out-of-bag error is pooled over (row, draw) p
 
 pub(super) const PLUS_OMITTED: &str = "the .632+ estimate needs the no-information error rate \
     gamma = sum over classes of p_k (1 - q_k), with q_k the class shares predicted by a fit on all \
-    rows; a selection records no predictions, so it is omitted";
+    rows; a selection records no predictions, so it is not computed from the record alone (the \
+    report computes it from refits on the development rows when the data file is at hand)";
 
 /// The .632 estimates, or why there are none.
 pub(super) fn bootstrap(r: &Recorded) -> Result<BootstrapEstimates, String> {

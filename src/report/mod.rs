@@ -9,8 +9,8 @@
 //! `point split-score`, `cell training`, ...) so tests can count them.
 //!
 //! Invariants: the page is built from the ledger alone, except the fold
-//! map, which re-resolves the recorded plan against its data file (as
-//! replay does) and is left out, with the reason, when the file is missing
+//! map and the exact bootstrap estimates, which re-resolve the recorded
+//! plan against its data file (as replay does) and is left out, with the reason, when the file is missing
 //! or no longer the recorded one; nothing is appended to the ledger; the
 //! same ledger gives the same bytes.
 
@@ -18,6 +18,7 @@ mod error;
 mod fold_map;
 mod page;
 mod plots;
+mod refit;
 mod svg;
 mod write;
 

@@ -78,6 +78,7 @@ pub(super) fn render(c: &Context) -> String {
     splits(&mut page, c);
     comparisons(&mut page, &c.analysis);
     bootstrap(&mut page, &c.analysis);
+    exact_632(&mut page, c);
     folds(&mut page, c);
     openings(&mut page, c);
     record(&mut page, c);
@@ -350,6 +351,45 @@ fn bootstrap(page: &mut String, a: &Analysis) {
         ));
     }
     page.push_str("</tbody>\n</table>\n</section>\n");
+}
+
+fn exact_632(page: &mut String, c: &Context) {
+    let Some(exact) = &c.exact else {
+        return;
+    };
+    page.push_str("<section id=\"bootstrap-exact\">\n<h3>.632 and .632+ from refits on all development rows</h3>\n");
+    match exact {
+        Ok(rows) => {
+            page.push_str(
+                "<p>Each candidate refitted once on the whole development partition gives the apparent error \
+                 (errbar, on those rows) and the no-information rate gamma = sum p<sub>k</sub>(1 - q<sub>k</sub>); \
+                 with the recorded out-of-bag error they give .632 and .632+ (Efron and Tibshirani 1997), 0/1 loss.</p>\n",
+            );
+            page.push_str("<table>\n<thead><tr><th>candidate</th><th>apparent</th><th>out-of-bag</th><th>gamma</th><th>.632</th><th>.632+</th></tr></thead>\n<tbody>\n");
+            for e in rows {
+                let class = if e.candidate == c.analysis.chosen.id {
+                    " class=\"chosen\""
+                } else {
+                    ""
+                };
+                page.push_str(&format!(
+                    "<tr{class}><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td></tr>\n",
+                    escape(&e.label),
+                    number(e.apparent),
+                    number(e.out_of_bag),
+                    number(e.no_information),
+                    number(e.err632),
+                    number(e.err632_plus)
+                ));
+            }
+            page.push_str("</tbody>\n</table>\n");
+        }
+        Err(why) => page.push_str(&format!(
+            "<p class=\"note omitted\">Left out: {}.</p>\n",
+            escape(why)
+        )),
+    }
+    page.push_str("</section>\n");
 }
 
 fn folds(page: &mut String, c: &Context) {

@@ -44,6 +44,8 @@ pub(super) struct Context {
     pub curves: Vec<Plot>,
     pub splits: Plot,
     pub folds: Result<FoldMap, String>,
+    /// Bootstrap selections: exact .632 and .632+ from refits.
+    pub exact: Option<Result<Vec<super::refit::Exact632>, String>>,
     pub openings: Vec<Entry>,
     pub verification: Verification,
 }
@@ -111,6 +113,10 @@ pub fn write_report(ledger: &Ledger, spec: &str, out: &Path) -> Result<ReportSum
         curves: curve_plots(&analysis)?,
         splits: split_plot(&analysis)?,
         folds: fold_map(&selection, &analysis),
+        exact: analysis
+            .bootstrap
+            .as_ref()
+            .map(|_| super::refit::exact_632(&selection, &analysis)),
         openings: ledger.openings(&selection.partition)?,
         verification: ledger.verify(None)?,
         analysis,

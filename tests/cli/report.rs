@@ -330,6 +330,34 @@ fn a_bootstrap_selection_has_632_estimates_per_candidate() {
     assert!(section.contains("The .632+ estimate needs the no-information error rate"));
     // No one-standard-error band under the best rule.
     assert!(!html.contains("class=\"band one-se\""));
+    // With the data at hand, the exact estimates from refits: one row per
+    // candidate; .632+ is never below .632 when the out-of-bag error lies
+    // between the apparent error and gamma (then Err1' = Err1 and R >= 0, so
+    // w >= 0.632: Efron and Tibshirani 1997).
+    let exact = &html[html
+        .find("<section id=\"bootstrap-exact\">")
+        .expect("exact section")..];
+    let exact = &exact[..exact.find("</section>").expect("end")];
+    let rows: Vec<Vec<f64>> = exact
+        .split("<tr")
+        .skip(2)
+        .map(|row| {
+            row.split("<td>")
+                .skip(2)
+                .filter_map(|cell| cell.split("</td>").next().and_then(|v| v.parse().ok()))
+                .collect()
+        })
+        .collect();
+    assert_eq!(rows.len(), eligible + 1, "{exact}");
+    let mut checked = 0;
+    for r in &rows {
+        let (apparent, oob, gamma, e632, plus) = (r[0], r[1], r[2], r[3], r[4]);
+        if oob > apparent && oob <= gamma {
+            assert!(plus >= e632 - 0.0015, "{r:?}");
+            checked += 1;
+        }
+    }
+    assert!(checked > 0, "some candidate over-fits: {rows:?}");
 }
 
 // --- the browser check -------------------------------------------------
