@@ -374,5 +374,48 @@ fn mean(voters: &[Neighbor], weights: &[f64], y: &[f64]) -> f64 {
     sum / total
 }
 
+/// Direct access to the exact search for the benchmarks under `benches/`
+/// (the crossover between brute force and the k-d tree). Hidden from the
+/// docs: not part of the supported API.
+#[doc(hidden)]
+pub mod search_bench {
+    use ndarray::ArrayView2;
+
+    use super::neighbor_search::{Distance, Index, Method, choose_method};
+
+    /// `Some(true)` forces the k-d tree, `Some(false)` brute force, `None`
+    /// lets `choose_method` pick.
+    pub type Path = Option<bool>;
+
+    /// Whether `choose_method` picks the k-d tree for this shape.
+    pub fn chooses_tree(rows: usize, dims: usize, k: usize) -> bool {
+        choose_method(rows, dims, k) == Method::KdTree
+    }
+
+    /// Euclidean: the `k` nearest training positions of each query row, in
+    /// `(distance, position)` order, and the sum of all reported distances
+    /// (so that a benchmark's result is used).
+    pub fn search(
+        train: ArrayView2<'_, f64>,
+        queries: ArrayView2<'_, f64>,
+        k: usize,
+        path: Path,
+    ) -> (Vec<Vec<u32>>, f64) {
+        let method = match path {
+            Some(true) => Method::KdTree,
+            Some(false) => Method::Brute,
+            None => choose_method(train.nrows(), train.ncols(), k),
+        };
+        let index = Index::build(train, Distance::Euclidean, method);
+        let lists = index.query_rows(queries, k);
+        let total = lists.iter().flatten().map(|n| n.distance).sum();
+        let rows = lists
+            .into_iter()
+            .map(|l| l.into_iter().map(|n| n.row).collect())
+            .collect();
+        (rows, total)
+    }
+}
+
 #[cfg(test)]
 mod tests;
