@@ -163,7 +163,9 @@ fn partition(ledger: &Ledger, metas: &[&EntryMeta]) -> Result<PartitionAudit, Le
     let mut selections = Vec::new();
     let mut openings = Vec::new();
     for m in metas {
-        let e = ledger.entry(&m.seq.to_string())?;
+        // The full hash, never the sequence number: from entry 1000 on, a
+        // number can also read as another entry's hash prefix (ambiguous).
+        let e = ledger.entry(&m.hash)?;
         match m.kind {
             EntryKind::Selection => selections.push(e),
             EntryKind::Opening => openings.push(e),

@@ -8,7 +8,8 @@
 
 use std::collections::BTreeMap;
 
-use ndarray::{Array2, Axis};
+use ndarray::{Array2, ArrayView2, Axis};
+use rayon::prelude::*;
 
 use crate::data::{Dataset, Target};
 use crate::learn::{self, Note, Predictions, Settings, Targets, Task, TrainPart};
@@ -125,33 +126,64 @@ pub fn evaluate_candidates(input: &FitInput<'_>, candidates: &[(&str, &Settings)
     if input.training_scores {
         queries.push(train_x.view());
     }
-    let mut out: Vec<Option<Scored>> = vec![None; candidates.len()];
     let mut learners: Vec<&str> = candidates.iter().map(|(l, _)| *l).collect();
-    learners.dedup();
     learners.sort();
     learners.dedup();
-    for name in learners {
-        let Some(learner) = learn::by_name(name) else {
-            for (i, (l, _)) in candidates.iter().enumerate() {
-                if *l == name {
-                    out[i] = Some(failed(format!("unknown learner {name}")));
-                }
-            }
-            continue;
-        };
-        let members: Vec<usize> = (0..candidates.len())
-            .filter(|&i| candidates[i].0 == name)
-            .collect();
-        let family: Vec<Settings> = members.iter().map(|&i| candidates[i].1.clone()).collect();
-        let outcomes = learner.evaluate_family(input.task, &part, &queries, &family);
-        for (&i, outcome) in members.iter().zip(outcomes) {
-            out[i] = Some(match outcome {
-                Err(e) => failed(e.to_string()),
-                Ok(o) => scored(input, &eval_y, &train_y, o),
-            });
-        }
+    // Families run side by side and candidates are scored side by side:
+    // each result is computed alone, so this changes when, never what.
+    let families: Vec<Vec<(usize, Scored)>> = learners
+        .par_iter()
+        .map(|name| {
+            family_scores(
+                input,
+                &part,
+                &queries,
+                candidates,
+                name,
+                (&eval_y, &train_y),
+            )
+        })
+        .collect();
+    let mut out: Vec<Option<Scored>> = vec![None; candidates.len()];
+    for (i, s) in families.into_iter().flatten() {
+        out[i] = Some(s);
     }
     out.into_iter().map(Option::unwrap_or_default).collect()
+}
+
+/// The scores of the candidates of learner `name` (by index into
+/// `candidates`), from one family evaluation.
+fn family_scores(
+    input: &FitInput<'_>,
+    part: &TrainPart<'_>,
+    queries: &[ArrayView2<'_, f64>],
+    candidates: &[(&str, &Settings)],
+    name: &str,
+    (eval_y, train_y): (&OwnedTargets, &OwnedTargets),
+) -> Vec<(usize, Scored)> {
+    let members: Vec<usize> = (0..candidates.len())
+        .filter(|&i| candidates[i].0 == name)
+        .collect();
+    let Some(learner) = learn::by_name(name) else {
+        let why = format!("unknown learner {name}");
+        return members
+            .into_iter()
+            .map(|i| (i, failed(why.clone())))
+            .collect();
+    };
+    let family: Vec<Settings> = members.iter().map(|&i| candidates[i].1.clone()).collect();
+    let outcomes = learner.evaluate_family(input.task, part, queries, &family);
+    members
+        .into_par_iter()
+        .zip(outcomes)
+        .map(|(i, outcome)| {
+            let s = match outcome {
+                Err(e) => failed(e.to_string()),
+                Ok(o) => scored(input, eval_y, train_y, o),
+            };
+            (i, s)
+        })
+        .collect()
 }
 
 fn scored(

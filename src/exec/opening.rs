@@ -93,9 +93,9 @@ pub fn latest_selection(ledger: &Ledger, hash: &str) -> Result<Option<Entry>, Ru
         return Ok(None);
     };
     Ok(Some(
-        ledger
-            .entry(&meta.seq.to_string())
-            .map_err(RunError::from)?,
+        // The full hash: a sequence number of 4 digits or more can also
+        // read as another entry's hash prefix, which is ambiguous.
+        ledger.entry(&meta.hash).map_err(RunError::from)?,
     ))
 }
 

@@ -2,7 +2,11 @@
 //!
 //! Invariants: results come back in job order whatever the completion order;
 //! jobs already recorded (by job id) are not run again; results are handed to
-//! the caller a batch at a time so that a killed run keeps what it finished.
+//! the caller a batch at a time (each batch in job order) so that a killed
+//! run keeps what it finished. All splits are queued on the pool at once, so
+//! both cores stay busy to the end (not batch by batch); each result is
+//! computed by one fixed sequence of operations, so neither the thread count
+//! nor completion order changes a bit.
 
 use std::collections::BTreeMap;
 use std::time::Instant;
@@ -112,6 +116,9 @@ fn run_split(
 
 static EMPTY: Settings = Settings::new();
 
+/// Finished splits: (job index, result, fit seconds) in any order.
+type Done = Vec<(usize, JobResult, f64)>;
+
 /// Run every job of `sheet` not in `cached`, in parallel over splits, and
 /// return all results in job order (cached ones included).
 pub fn run_jobs(
@@ -131,43 +138,24 @@ pub fn run_jobs(
         .iter()
         .filter_map(|s| by_split.remove(s.id.as_str()).map(|todo| (s, todo)))
         .collect();
-    let mut fresh: BTreeMap<usize, JobResult> = BTreeMap::new();
-    let batch = (rayon::current_num_threads() * 2).max(2);
-    for chunk in work.chunks(batch) {
-        let advance = progress.advance();
-        let done: Vec<(usize, JobResult, f64)> = chunk
-            .par_iter()
-            .flat_map_iter(|(split, todo)| {
-                let out = run_split(r, sheet, split, todo);
-                advance(out.len());
-                out
-            })
-            .collect();
-        keep(done, progress, &mut fresh);
+    // Inside a pool the calling thread is a worker that must not block on
+    // a channel (a one-thread pool would never run the work): batch there.
+    let mut fresh = if rayon::current_thread_index().is_some() {
+        run_in_batches(r, sheet, &work, progress)
+    } else {
+        run_streaming(r, sheet, &work, progress)
+    };
+    let mut refits = refit_jobs(r, sheet, cached, &fresh);
+    if !refits.is_empty() {
+        (progress.advance())(refits.len());
+        store(progress, &mut refits, &mut fresh);
     }
-    let refits = refit_jobs(r, sheet, cached, &fresh);
-    progress.advance()(refits.len());
-    keep(refits, progress, &mut fresh);
     sheet
         .jobs
         .iter()
         .enumerate()
         .filter_map(|(j, job)| cached.get(&job.id).cloned().or_else(|| fresh.remove(&j)))
         .collect()
-}
-
-fn keep(
-    mut done: Vec<(usize, JobResult, f64)>,
-    progress: &mut dyn RunProgress,
-    fresh: &mut BTreeMap<usize, JobResult>,
-) {
-    if done.is_empty() {
-        return;
-    }
-    done.sort_by_key(|(j, _, _)| *j);
-    let stored: Vec<(JobResult, f64)> = done.iter().map(|(_, res, s)| (res.clone(), *s)).collect();
-    progress.store(&stored);
-    fresh.extend(done.into_iter().map(|(j, res, _)| (j, res)));
 }
 
 /// Nested resampling: for each outer split whose refit is not recorded, the
@@ -253,4 +241,76 @@ fn refit(r: &Resolved, sheet: &JobSheet, known: &[JobResult], j: usize) -> (usiz
     result.note = s.note.into();
     result.failed = s.failed;
     (j, result, started.elapsed().as_secs_f64())
+}
+
+/// Splits stored together: a killed run loses at most about this many.
+fn batch_splits() -> usize {
+    (rayon::current_num_threads() * 2).max(2)
+}
+
+/// Sorts `done` into job order, hands it to `progress` and keeps it.
+fn store(progress: &mut dyn RunProgress, done: &mut Done, fresh: &mut BTreeMap<usize, JobResult>) {
+    done.sort_by_key(|(j, _, _)| *j);
+    let stored: Vec<(JobResult, f64)> = done.iter().map(|(_, res, s)| (res.clone(), *s)).collect();
+    progress.store(&stored);
+    fresh.extend(done.drain(..).map(|(j, res, _)| (j, res)));
+}
+
+/// Every split on the pool at once, so that no thread idles while another
+/// finishes a batch; the calling thread stores splits as they finish,
+/// [`batch_splits`] at a time. Completion order only decides which batch a
+/// result is stored in, never a result.
+fn run_streaming(
+    r: &Resolved,
+    sheet: &JobSheet,
+    work: &[(&SheetSplit, Vec<usize>)],
+    progress: &mut dyn RunProgress,
+) -> BTreeMap<usize, JobResult> {
+    let (tx, rx) = std::sync::mpsc::channel::<Done>();
+    let mut fresh = BTreeMap::new();
+    rayon::in_place_scope(|scope| {
+        scope.spawn(move |_| {
+            work.par_iter().for_each_with(tx, |tx, (split, todo)| {
+                // The receiver outlives the scope, so sending cannot fail.
+                let _ = tx.send(run_split(r, sheet, split, todo));
+            });
+        });
+        let (mut pending, mut splits) = (Done::new(), 0);
+        // Ends when the last sender is dropped: every split has finished.
+        for out in rx.iter() {
+            (progress.advance())(out.len());
+            pending.extend(out);
+            splits += 1;
+            if splits == batch_splits() {
+                store(progress, &mut pending, &mut fresh);
+                splits = 0;
+            }
+        }
+        store(progress, &mut pending, &mut fresh);
+    });
+    fresh
+}
+
+/// Splits in batches of [`batch_splits`], each batch run in parallel and
+/// stored before the next starts.
+fn run_in_batches(
+    r: &Resolved,
+    sheet: &JobSheet,
+    work: &[(&SheetSplit, Vec<usize>)],
+    progress: &mut dyn RunProgress,
+) -> BTreeMap<usize, JobResult> {
+    let mut fresh = BTreeMap::new();
+    for chunk in work.chunks(batch_splits()) {
+        let advance = progress.advance();
+        let mut done: Done = chunk
+            .par_iter()
+            .flat_map_iter(|(split, todo)| {
+                let out = run_split(r, sheet, split, todo);
+                advance(out.len());
+                out
+            })
+            .collect();
+        store(progress, &mut done, &mut fresh);
+    }
+    fresh
 }

@@ -26,6 +26,8 @@ pub use baseline::Baseline;
 pub use logistic::{Logistic, LogisticCoefficients};
 pub use nearest_centroid::NearestCentroid;
 pub use nearest_neighbors::NearestNeighbors;
+#[doc(hidden)]
+pub use nearest_neighbors::search_bench;
 pub use ridge::{Ridge, RidgeCoefficients};
 pub use setting::{SettingDefault, SettingKind, SettingSpec, SettingValue, Settings};
 pub use shrunken_centroid::ShrunkenCentroid;

@@ -262,8 +262,15 @@ enum Collect {
         classes: usize,
         labels: Vec<u32>,
         probabilities: Vec<f64>,
+        /// Per class, the nearest voter's distance (reused row to row).
+        nearest: Vec<f64>,
+        /// The voters' weights (reused row to row).
+        weights: Vec<f64>,
     },
-    Values(Vec<f64>),
+    Values {
+        values: Vec<f64>,
+        weights: Vec<f64>,
+    },
 }
 
 impl Collect {
@@ -273,27 +280,37 @@ impl Collect {
                 classes: p.classes,
                 labels: Vec::with_capacity(rows),
                 probabilities: Vec::with_capacity(rows * p.classes),
+                nearest: Vec::with_capacity(p.classes),
+                weights: Vec::new(),
             },
-            Part::Values(_) => Collect::Values(Vec::with_capacity(rows)),
+            Part::Values(_) => Collect::Values {
+                values: Vec::with_capacity(rows),
+                weights: Vec::new(),
+            },
         }
     }
 
     fn push(&mut self, part: &Part<'_>, voters: &[Neighbor], inverse: bool) {
-        let weights = weights(voters, inverse);
         match (self, part) {
             (
                 Collect::Classes {
                     classes,
                     labels,
                     probabilities,
+                    nearest,
+                    weights: w,
                 },
                 Part::Classes(p),
             ) => {
+                weights(voters, inverse, w);
                 let start = probabilities.len();
                 probabilities.resize(start + *classes, 0.0);
-                labels.push(vote(voters, &weights, p.y, &mut probabilities[start..]));
+                labels.push(vote(voters, w, p.y, &mut probabilities[start..], nearest));
             }
-            (Collect::Values(values), Part::Values(y)) => values.push(mean(voters, &weights, y)),
+            (Collect::Values { values, weights: w }, Part::Values(y)) => {
+                weights(voters, inverse, w);
+                values.push(mean(voters, w, y));
+            }
             // `Collect::new` pairs each sink with the part it was made for.
             _ => {}
         }
@@ -305,6 +322,7 @@ impl Collect {
                 classes,
                 labels,
                 probabilities,
+                ..
             } => {
                 let rows = labels.len();
                 let probabilities = Array2::from_shape_vec((rows, classes), probabilities)
@@ -314,7 +332,7 @@ impl Collect {
                     probabilities,
                 }
             }
-            Collect::Values(values) => Predictions::Values(values),
+            Collect::Values { values, .. } => Predictions::Values(values),
         }
     }
 }
@@ -322,25 +340,35 @@ impl Collect {
 /// The weight of each voter: 1 each (equal), `d_1 / d_i` (inverse-distance),
 /// or, when the nearest distance is 0, 1 for each zero-distance voter and 0
 /// for the rest. The first voter always weighs 1, so the total is positive.
-fn weights(voters: &[Neighbor], inverse: bool) -> Vec<f64> {
+/// Written into `out` (cleared first), which is reused from row to row.
+fn weights(voters: &[Neighbor], inverse: bool, out: &mut Vec<f64>) {
+    out.clear();
     let nearest = voters.first().map_or(0.0, |n| n.distance);
     if !inverse {
-        return vec![1.0; voters.len()];
+        out.resize(voters.len(), 1.0);
+    } else if nearest == 0.0 {
+        out.extend(
+            voters
+                .iter()
+                .map(|n| if n.distance == 0.0 { 1.0 } else { 0.0 }),
+        );
+    } else {
+        out.extend(voters.iter().map(|n| nearest / n.distance));
     }
-    if nearest == 0.0 {
-        return voters
-            .iter()
-            .map(|n| if n.distance == 0.0 { 1.0 } else { 0.0 })
-            .collect();
-    }
-    voters.iter().map(|n| nearest / n.distance).collect()
 }
 
 /// Fills `shares` (one slot per class) with the weighted vote shares and
 /// returns the winning class: the largest weight, then the smallest nearest
-/// distance among its voters, then the lower code.
-fn vote(voters: &[Neighbor], weights: &[f64], y: &[u32], shares: &mut [f64]) -> u32 {
-    let mut nearest = vec![f64::INFINITY; shares.len()];
+/// distance among its voters, then the lower code. `nearest` is scratch.
+fn vote(
+    voters: &[Neighbor],
+    weights: &[f64],
+    y: &[u32],
+    shares: &mut [f64],
+    nearest: &mut Vec<f64>,
+) -> u32 {
+    nearest.clear();
+    nearest.resize(shares.len(), f64::INFINITY);
     for (n, w) in voters.iter().zip(weights) {
         let c = y[n.row as usize] as usize;
         shares[c] += w;
@@ -372,6 +400,49 @@ fn mean(voters: &[Neighbor], weights: &[f64], y: &[f64]) -> f64 {
         total += w;
     }
     sum / total
+}
+
+/// Direct access to the exact search for the benchmarks under `benches/`
+/// (the crossover between brute force and the k-d tree). Hidden from the
+/// docs: not part of the supported API.
+#[doc(hidden)]
+pub mod search_bench {
+    use ndarray::ArrayView2;
+
+    use super::neighbor_search::{Distance, Index, Method, choose_method};
+
+    /// `Some(true)` forces the k-d tree, `Some(false)` brute force, `None`
+    /// lets `choose_method` pick.
+    pub type Path = Option<bool>;
+
+    /// Whether `choose_method` picks the k-d tree for this shape.
+    pub fn chooses_tree(rows: usize, dims: usize, k: usize) -> bool {
+        choose_method(rows, dims, k) == Method::KdTree
+    }
+
+    /// Euclidean: the `k` nearest training positions of each query row, in
+    /// `(distance, position)` order, and the sum of all reported distances
+    /// (so that a benchmark's result is used).
+    pub fn search(
+        train: ArrayView2<'_, f64>,
+        queries: ArrayView2<'_, f64>,
+        k: usize,
+        path: Path,
+    ) -> (Vec<Vec<u32>>, f64) {
+        let method = match path {
+            Some(true) => Method::KdTree,
+            Some(false) => Method::Brute,
+            None => choose_method(train.nrows(), train.ncols(), k),
+        };
+        let index = Index::build(train, Distance::Euclidean, method);
+        let lists = index.query_rows(queries, k);
+        let total = lists.iter().flatten().map(|n| n.distance).sum();
+        let rows = lists
+            .into_iter()
+            .map(|l| l.into_iter().map(|n| n.row).collect())
+            .collect();
+        (rows, total)
+    }
 }
 
 #[cfg(test)]

@@ -22,7 +22,9 @@
 //!   rounding is monotone, each gap is at most the rounded coordinate
 //!   difference, and the terms are summed in the same order. So pruning
 //!   never drops a row that belongs in the list, including rows tied with
-//!   the k-th distance.
+//!   the k-th distance. The bound is kept as a sum (before the square root)
+//!   and compared with [`screen_limit`] of the k-th distance, the margin the
+//!   row screen uses, so no square root is taken per node.
 //! - Query rows are searched in parallel (rayon) but each row's list depends
 //!   only on that row, so results do not depend on the thread count.
 
@@ -143,9 +145,11 @@ impl Best {
     fn offer(&mut self, candidate: Neighbor) {
         if !self.full() {
             self.heap.push(candidate);
-        } else if self.heap.peek().is_some_and(|w| candidate < *w) {
-            self.heap.pop();
-            self.heap.push(candidate);
+        } else if let Some(mut worst) = self.heap.peek_mut()
+            && candidate < *worst
+        {
+            // Replacing the top sifts once, where pop then push sifts twice.
+            *worst = candidate;
         }
     }
 
@@ -164,34 +168,39 @@ pub(crate) enum Method {
 /// The search path for `rows` training rows of `dims` features when up to
 /// `k` neighbours are wanted.
 ///
-/// Rule: the k-d tree when `1 <= dims <= 8`, `rows >= 64 * 2^dims` and
-/// `k <= rows / 16`; brute force otherwise.
+/// Rule: the k-d tree when `1 <= dims <= 8`, `rows >= max(1000, 16 * 2^dims)`
+/// and `k <= rows / 16`; brute force otherwise.
 ///
-/// Measured roughly with `crossover_timings` below (release build, 2 cores
-/// shared with other builds running at the same time, so absolute numbers
-/// are noisy by a factor of up to 2 and only each cell's ratio is
-/// meaningful; 2,000 Gaussian query rows against Gaussian training rows,
-/// k = 10, Euclidean), milliseconds brute / tree:
+/// Measured with `cargo bench --bench search -- search/crossover` (see
+/// BENCHMARKS.md; release build, 2 cores shared with other builds, load
+/// average about 3, so absolute numbers are noisy and only each cell's
+/// ratio is meaningful; 2,000 Gaussian query rows against Gaussian training
+/// rows, k = 10, Euclidean), milliseconds brute / tree:
 ///
 /// | dims | 1,000 rows | 4,000 | 16,000 | 80,000 |
 /// |---|---|---|---|---|
-/// | 2 | 9.0 / 2.9 | 23 / 4.0 | 80 / 7.1 | 361 / 31 |
-/// | 4 | 10.8 / 6.3 | 28 / 9.0 | 80 / 14 | 397 / 64 |
-/// | 6 | 12.1 / 12.6 | 30 / 22 | 116 / 44 | 467 / 120 |
-/// | 8 | 13.2 / 19.9 | 37 / 47 | 127 / 100 | 589 / 365 |
-/// | 10 | 13.2 / 25.7 | 41 / 75 | 143 / 197 | 670 / 939 |
-/// | 12 | 15.3 / 29.6 | 50 / 109 | 170 / 328 | 756 / 2196 |
-/// | 16 | 15.5 / 35.0 | 59 / 156 | 174 / 492 | 660 / 6439 |
+/// | 2 | 8.8 / 1.8 | 17 / 3.6 | 95 / 7.0 | 395 / 28 |
+/// | 4 | 12.8 / 6.3 | 32 / 8.2 | 99 / 14 | 434 / 68 |
+/// | 6 | 14.2 / 11.2 | 30 / 16 | 106 / 34 | 504 / 150 |
+/// | 8 | 17.3 / 16.5 | 43 / 30 | 152 / 80 | 693 / 285 |
+/// | 10 | 7.0 / 8.5 | 25 / 42 | 131 / 127 | 623 / 743 |
+/// | 12 | 17.6 / 25.7 | 60 / 85 | 204 / 214 | 849 / 1718 |
+/// | 16 | 20.2 / 23.9 | 51 / 100 | 174 / 365 | 1230 / 4506 |
 ///
-/// So the tree wins from about 256 rows at 2 features, 1,000 at 4, 4,000
-/// at 6 and 16,000 at 8; at 10 features it breaks even at 80,000 rows and
-/// beyond that brute force (16 rows at a time, see `LANES`) wins on Gaussian
-/// data. Data with structure (a low intrinsic dimension) favours the tree
-/// more than Gaussian noise does, so this rule is conservative. The limit
-/// on `k` is a guess, not measured: with many neighbours the tree has to
-/// visit most leaves anyway. A later benchmark will refine all of it.
+/// So the tree wins from 1,000 rows at 2 to 6 features and from 4,000 at
+/// 8 (a tie at 1,000); from 10 features on brute force (16 rows at a time,
+/// see `LANES`, with the half-sum early exit in `scan`) wins or ties at
+/// every size measured, on Gaussian data. An earlier measurement, before
+/// the tree took no square root per node and brute force exited early,
+/// put the 8-feature crossover at 16,000 rows; this rule follows the new
+/// figures. Below 1,000 rows nothing was measured and either path takes
+/// well under a millisecond per 100 queries. Data with structure (a low
+/// intrinsic dimension) favours the tree more than Gaussian noise does,
+/// so the rule is conservative. The limit on `k` is a guess, not
+/// measured: with many neighbours the tree has to visit most leaves anyway.
 pub(crate) fn choose_method(rows: usize, dims: usize, k: usize) -> Method {
-    if (1..=8).contains(&dims) && rows >= 64 << dims && k.saturating_mul(16) <= rows {
+    let enough_rows = rows >= (16usize << dims.min(8)).max(1000);
+    if (1..=8).contains(&dims) && enough_rows && k.saturating_mul(16) <= rows {
         Method::KdTree
     } else {
         Method::Brute
@@ -337,14 +346,23 @@ impl Index {
     /// Offers the rows of block `b`. The block's sums are a screen only: a
     /// row that might enter the list has its distance computed by
     /// [`distance`] (the same operations, so the same bits) and that value
-    /// is offered.
+    /// is offered. With a full list, the first half of the features is
+    /// summed first and the block is dropped when every lane is already
+    /// above the limit: the terms are never negative and rounding is
+    /// monotone, so a partial sum never exceeds the whole sum.
     fn scan(&self, q: &[f64], b: usize, best: &mut Best) {
-        let sums = self.block_sums(q, b);
         let limit = if best.full() {
             screen_limit(self.metric, best.worst())
         } else {
             f64::INFINITY
         };
+        let half = if limit.is_finite() { self.dims / 2 } else { 0 };
+        let mut sums = [0.0; LANES];
+        self.accumulate(q, b, 0..half, &mut sums);
+        if half > 0 && sums.iter().all(|&s| s > limit) {
+            return;
+        }
+        self.accumulate(q, b, half..self.dims, &mut sums);
         for (l, &row) in self.slots[b].iter().enumerate() {
             if row == PAD || sums[l] > limit {
                 continue;
@@ -361,9 +379,25 @@ impl Index {
     /// The sums of [`distance`] (before its square root) from `q` to the
     /// `LANES` slots of block `b`, each lane with the same operations in the
     /// same order.
+    #[cfg(test)]
     fn block_sums(&self, q: &[f64], b: usize) -> [f64; LANES] {
-        let columns = &self.blocks[b * self.dims..(b + 1) * self.dims];
         let mut sum = [0.0; LANES];
+        self.accumulate(q, b, 0..self.dims, &mut sum);
+        sum
+    }
+
+    /// Adds the terms of `features` (in order) from `q` to the `LANES`
+    /// slots of block `b` into `sum`.
+    #[inline]
+    fn accumulate(
+        &self,
+        q: &[f64],
+        b: usize,
+        features: std::ops::Range<usize>,
+        sum: &mut [f64; LANES],
+    ) {
+        let columns = &self.blocks[b * self.dims..(b + 1) * self.dims];
+        let (q, columns) = (&q[features.clone()], &columns[features]);
         match self.metric {
             Distance::Euclidean => {
                 for (x, column) in q.iter().zip(columns) {
@@ -381,40 +415,36 @@ impl Index {
                 }
             }
         }
-        sum
     }
 
-    /// A lower bound on [`distance`] from `q` to every row of `node`: the
-    /// gap to the node's bounding box per axis (0 inside), combined with the
-    /// operations of [`distance`] in feature order.
+    /// A lower bound on the sum of [`distance`] (before its square root)
+    /// from `q` to every row of `node`: the gap to the node's bounding box
+    /// per axis (0 inside), combined with the operations of [`distance`] in
+    /// feature order. The gap is `max(l - x, x - h, 0)`, the same value as
+    /// the case analysis (`l <= h`), without branches.
     fn box_bound(&self, node: usize, q: &[f64]) -> f64 {
         let corners = &self.boxes[node * 2 * self.dims..(node + 1) * 2 * self.dims];
         let (lo, hi) = corners.split_at(self.dims);
         let mut sum = 0.0;
-        for ((x, l), h) in q.iter().zip(lo).zip(hi) {
-            let gap = if x < l {
-                l - x
-            } else if x > h {
-                x - h
-            } else {
-                0.0
-            };
-            match self.metric {
-                Distance::Euclidean => sum += gap * gap,
-                Distance::Manhattan => sum += gap,
-            }
-        }
+        let gaps = q
+            .iter()
+            .zip(lo)
+            .zip(hi)
+            .map(|((x, l), h)| (l - x).max(x - h).max(0.0));
         match self.metric {
-            Distance::Euclidean => sum.sqrt(),
-            Distance::Manhattan => sum,
+            Distance::Euclidean => gaps.for_each(|gap| sum += gap * gap),
+            Distance::Manhattan => gaps.for_each(|gap| sum += gap),
         }
+        sum
     }
 
-    /// Searches `node`, whose rows are all at least `bound` from `q`,
-    /// nearer child first. Skips it only when the bound is strictly beyond
-    /// the current k-th distance.
+    /// Searches `node`, whose rows all have [`distance`] sums of at least
+    /// `bound` from `q`, nearer child first. Skips it only when the bound
+    /// is above [`screen_limit`] of the current k-th distance, which makes
+    /// every row's distance strictly greater than it (the screen's own
+    /// argument); near the limit the node is searched, which is only slower.
     fn descend(&self, node: usize, q: &[f64], bound: f64, best: &mut Best) {
-        if best.full() && bound > best.worst() {
+        if best.full() && bound > screen_limit(self.metric, best.worst()) {
             return;
         }
         match self.nodes[node] {

@@ -29,8 +29,10 @@ use rusqlite::{Connection, TransactionBehavior};
 
 use super::error::LedgerError;
 
-/// How long a writer waits for another process's lock before giving up.
-pub const BUSY_TIMEOUT: Duration = Duration::from_secs(10);
+/// How long a writer waits for another process's lock before giving up:
+/// long enough for another run storing a million job results (about 9 s
+/// on the project machine, BENCHMARKS.md) to finish its transaction.
+pub const BUSY_TIMEOUT: Duration = Duration::from_secs(60);
 
 /// holdfast's SQLite application id: the ASCII bytes "HFLG".
 pub const APPLICATION_ID: i64 = 0x4846_4C47;

@@ -330,3 +330,47 @@ fn shallower_then_larger_leaves_is_simpler() {
     assert!(key(2, 5) > key(2, 1));
     assert!(key(2, 1) > key(3, 50));
 }
+
+/// Rows of small integer values (many ties and duplicate rows) and a
+/// response of a few levels, from a seeded stream.
+fn tied_data(rows: usize, seed: u64) -> (Array2<f64>, Vec<u32>, Vec<f64>) {
+    use rand_chacha::ChaCha8Rng;
+    use rand_core::{Rng, SeedableRng};
+    let mut rng = ChaCha8Rng::seed_from_u64(seed);
+    let x = Array2::from_shape_fn((rows, 4), |(_, j)| {
+        (rng.next_u64() % (3 + 4 * j as u64)) as f64
+    });
+    let classes: Vec<u32> = (0..rows).map(|_| (rng.next_u64() % 3) as u32).collect();
+    let values: Vec<f64> = (0..rows)
+        .map(|i| x[[i, 0]] * 0.5 - x[[i, 2]] + (rng.next_u64() % 5) as f64 * 0.1)
+        .collect();
+    (x, classes, values)
+}
+
+#[test]
+fn presorted_growing_equals_sorting_every_node() {
+    // 20,000 rows so that the parallel path (nodes of 2^14 rows or more)
+    // runs at the root; small sizes for the serial path.
+    let shapes: &[(usize, usize)] = &[(1, 1), (4, 1), (12, 1), (12, 7)];
+    for (rows, seed, shapes) in [
+        (20_000, 1, &shapes[1..2]),
+        (300, 2, shapes),
+        (57, 3, shapes),
+    ] {
+        let (x, classes, values) = tied_data(rows, seed);
+        for &(depth, min_leaf) in shapes {
+            for y in [
+                Response::Classes {
+                    y: &classes,
+                    classes: 3,
+                },
+                Response::Values(&values),
+            ] {
+                let want = super::grow::grown_by_sorting(x.view(), y, depth, min_leaf);
+                let got = Grown::new(x.view(), y, depth, min_leaf);
+                assert!(want.nodes.len() > 1, "the reference tree splits");
+                assert_eq!(got, want, "rows {rows} depth {depth} min-leaf {min_leaf}");
+            }
+        }
+    }
+}

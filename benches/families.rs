@@ -1,0 +1,95 @@
+//! Family evaluation against one candidate, learner by learner: the cost of
+//! a whole grid on one split beside the cost of one of its candidates, both
+//! through `exec::evaluate_candidates` (z-score fit, the learner, scoring,
+//! training scores on, as a default run does).
+//!
+//! Data: 10,000 generated rows, 5 features, 100 groups, 2 classes (the
+//! `bench-data` defaults); the first split of a grouped 5-fold scheme, so
+//! 8,000 training rows and 2,000 validation rows. Targets (BENCHMARKS.md):
+//! 16 k at most 1.3x one, 17 delta at most 1.3x one, 10 ridge penalties at
+//! most 1.5x one, depths 1..10 at most 1.5x depth 10 alone.
+
+mod common;
+
+use std::hint::black_box;
+use std::time::Duration;
+
+use criterion::{Criterion, criterion_group, criterion_main};
+
+use common::{Bed, candidates_of, classification_plan, compiled, evaluate_on_first_split};
+
+/// (group name, learner, plan blocks, task is regression, which candidates
+/// are timed alone: indices into the family).
+const FAMILIES: &[(&str, &str, &str, bool, &[usize])] = &[
+    (
+        "nearest-neighbors-16-k",
+        "nearest-neighbors",
+        "[[candidates]]\nlearner = \"nearest-neighbors\"\n\
+         k = [1, 3, 5, 7, 9, 11, 13, 15, 17, 19, 21, 23, 25, 27, 29, 31]\n",
+        false,
+        &[15, 7, 0],
+    ),
+    (
+        "shrunken-centroid-17-delta",
+        "shrunken-centroid",
+        "[[candidates]]\nlearner = \"shrunken-centroid\"\ndelta = { from = 0.0, to = 4.0, steps = 17 }\n",
+        false,
+        &[8],
+    ),
+    (
+        "ridge-10-lambda",
+        "ridge",
+        "[[candidates]]\nlearner = \"ridge\"\nlambda = { from = 0.001, to = 1000.0, steps = 10, scale = \"log\" }\n",
+        true,
+        &[5],
+    ),
+    (
+        "tree-depth-1-to-10",
+        "tree",
+        "[[candidates]]\nlearner = \"tree\"\ndepth = { from = 1, to = 10, steps = 10 }\n",
+        false,
+        &[9],
+    ),
+    (
+        "logistic-6-lambda",
+        "logistic",
+        "[[candidates]]\nlearner = \"logistic\"\nlambda = { from = 0.001, to = 100.0, steps = 6, scale = \"log\" }\n",
+        false,
+        &[3],
+    ),
+];
+
+fn families(c: &mut Criterion) {
+    let bed = Bed::new(10_000, 5, 100);
+    for &(name, learner, blocks, regression, alone) in FAMILIES {
+        let text = if regression {
+            common::regression_plan(5, blocks)
+        } else {
+            classification_plan(5, 1, blocks)
+        };
+        let (r, sheet) = compiled(&bed.plan(&format!("{name}.toml"), &text));
+        let family = candidates_of(&sheet, learner);
+        let mut group = c.benchmark_group(format!("family/{name}"));
+        group.sample_size(20);
+        group.measurement_time(Duration::from_secs(4));
+        group.bench_function(format!("all-{}", family.len()), |b| {
+            b.iter(|| black_box(evaluate_on_first_split(&r, &sheet, &family)))
+        });
+        for &i in alone {
+            let one = [family[i]];
+            let label = sheet
+                .candidates
+                .iter()
+                .filter(|c| c.learner == learner)
+                .nth(i)
+                .map_or_else(String::new, |c| c.label.replace(' ', "_"));
+            group.bench_function(format!("one/{label}"), |b| {
+                b.iter(|| black_box(evaluate_on_first_split(&r, &sheet, &one)))
+            });
+        }
+        group.finish();
+    }
+}
+
+criterion_group!(benches, families);
+criterion_main!(benches);
