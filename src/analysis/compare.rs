@@ -27,7 +27,7 @@ pub enum TestForm {
     /// row counts of the outer splits.
     CorrectedResampled,
     /// Bouckaert and Frank (2004): r repeats of k folds, n2/n1 = 1/(k - 1).
-    RepeatedKFold,
+    RepeatedFolds,
 }
 
 /// How the comparisons were computed.
@@ -90,7 +90,7 @@ pub(super) fn setup(r: &Recorded, scheme: &SchemeFacts) -> TestSetup {
     let n2 = mean_of(&|i| outer[i].validation_rows);
     match *scheme.outer() {
         SchemeFacts::KFold { folds, repeats } if repeats > 1 => TestSetup {
-            form: TestForm::RepeatedKFold,
+            form: TestForm::RepeatedFolds,
             splits: j,
             train_rows: n1,
             validation_rows: n2,
@@ -126,7 +126,7 @@ fn trim(x: f64) -> String {
 
 fn run_test(setup: &TestSetup, d: &[f64]) -> Result<TTest, StatsError> {
     match (setup.form, setup.folds, setup.repeats) {
-        (TestForm::RepeatedKFold, Some(k), Some(r)) => stats::repeated_k_fold_t(d, k, r, 0.95),
+        (TestForm::RepeatedFolds, Some(k), Some(r)) => stats::repeated_k_fold_t(d, k, r, 0.95),
         _ => stats::corrected_resampled_t(d, setup.train_rows, setup.validation_rows, 0.95),
     }
 }
@@ -250,7 +250,7 @@ mod tests {
         let r = methods_fixture(kfold(5, 2), 70, 30);
         let t = r.tables(&r.metric);
         let s = setup(&r, &SchemeFacts::of(&r.scheme));
-        assert_eq!(s.form, TestForm::RepeatedKFold);
+        assert_eq!(s.form, TestForm::RepeatedFolds);
         let c = compare(&r, &t, &s, 0, 1);
         close(c.t.unwrap(), 1.793619, 1e-5);
         close(c.p.unwrap(), 0.106460, 1e-5);

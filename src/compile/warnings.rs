@@ -93,7 +93,7 @@ fn scheme_warnings(scheme: &Scheme, rows: usize, out: &mut Vec<String>) {
         Scheme::KFold { folds, .. } if *folds < FEW_FOLDS => out.push(format!(
             "[resample] {folds} folds: fewer than {FEW_FOLDS} folds gives noisy and pessimistic estimates; five or ten is usual"
         )),
-        Scheme::LeaveOneOut if rows > MANY_ROWS_FOR_LOO => out.push(format!(
+        Scheme::OneRowOut if rows > MANY_ROWS_FOR_LOO => out.push(format!(
             "[resample] leave-one-out on {rows} development rows: {rows} fits per candidate and a high-variance estimate; consider 5 or 10 folds"
         )),
         Scheme::Nested { outer, inner } => {
@@ -158,11 +158,11 @@ mod tests {
                 None,
             ),
             (
-                Scheme::LeaveOneOut,
+                Scheme::OneRowOut,
                 5000,
                 Some("leave-one-out on 5000 development rows"),
             ),
-            (Scheme::LeaveOneOut, 300, None),
+            (Scheme::OneRowOut, 300, None),
         ];
         for (scheme, rows, want) in cases {
             let mut out = Vec::new();

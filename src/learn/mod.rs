@@ -24,7 +24,7 @@ mod tree;
 
 pub use baseline::Baseline;
 pub use logistic::{Logistic, LogisticCoefficients};
-pub use nearest_centroid::NearestCentroid;
+pub use nearest_centroid::MeanCentroid;
 pub use nearest_neighbors::NearestNeighbors;
 #[doc(hidden)]
 pub use nearest_neighbors::search_bench;
@@ -158,7 +158,7 @@ pub trait Learner: Sync + Send {
 pub fn all() -> [&'static dyn Learner; 7] {
     [
         &NearestNeighbors,
-        &NearestCentroid,
+        &MeanCentroid,
         &ShrunkenCentroid,
         &Ridge,
         &Logistic,

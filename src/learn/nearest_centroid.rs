@@ -28,13 +28,13 @@ use super::{
 
 /// The `nearest-centroid` learner.
 #[derive(Clone, Copy, Debug, Default)]
-pub struct NearestCentroid;
+pub struct MeanCentroid;
 
 const NAME: &str = "nearest-centroid";
 
 const SETTINGS: &[SettingSpec] = &[];
 
-impl Learner for NearestCentroid {
+impl Learner for MeanCentroid {
     fn name(&self) -> &'static str {
         NAME
     }
@@ -167,7 +167,7 @@ mod tests {
             y: Targets::Classes(y),
         };
         let task = Task::Classification { classes };
-        NearestCentroid.evaluate_family(task, &train, &[q.view()], &vec![Settings::new(); family])
+        MeanCentroid.evaluate_family(task, &train, &[q.view()], &vec![Settings::new(); family])
     }
 
     fn unpack(r: &Result<Outcome, LearnError>) -> (Vec<u32>, Array2<f64>, Note) {
@@ -242,8 +242,7 @@ mod tests {
             x: x.view(),
             y: Targets::Values(&[1.0, 2.0]),
         };
-        let out =
-            NearestCentroid.evaluate_family(Task::Regression, &train, &[], &[Settings::new()]);
+        let out = MeanCentroid.evaluate_family(Task::Regression, &train, &[], &[Settings::new()]);
         assert!(matches!(out[0], Err(LearnError::Task { .. })));
         let x = array![[-1e300], [1e300]];
         let q = array![[1e300]];

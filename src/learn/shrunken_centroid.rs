@@ -404,7 +404,7 @@ mod tests {
     use ndarray::{Array2, array};
 
     use super::*;
-    use crate::learn::{NearestCentroid, SettingValue, Targets};
+    use crate::learn::{MeanCentroid, SettingValue, Targets};
 
     fn delta(d: f64) -> Settings {
         let mut s = Settings::new();
@@ -535,7 +535,7 @@ mod tests {
             x: scaled.view(),
             y: Targets::Classes(&y),
         };
-        let nc = NearestCentroid.evaluate_family(
+        let nc = MeanCentroid.evaluate_family(
             Task::Classification { classes: 2 },
             &train,
             &[q_scaled.view()],

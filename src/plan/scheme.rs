@@ -100,8 +100,8 @@ pub fn resolve_scheme(
             validation: size(r.validation.unwrap_or(RawSize::Fraction(0.2))),
             stratify,
         },
-        "leave-one-out" => Scheme::LeaveOneOut,
-        "leave-one-group-out" => Scheme::LeaveOneGroupOut,
+        "leave-one-out" => Scheme::OneRowOut,
+        "leave-one-group-out" => Scheme::OneGroupOut,
         "forward-chaining" => forward_chaining(r, place, problems)?,
         "bootstrap" => Scheme::Bootstrap {
             splits: r.splits.unwrap_or(50),

@@ -1,4 +1,5 @@
-//! Forward-chaining (rolling-origin) evaluation over time points.
+//! Forward-chaining evaluation over time points: each origin trains on the
+//! past and validates on what follows it.
 //!
 //! Time points are the distinct order values of the development rows,
 //! sorted ascending (-0.0 and 0.0 are one point); all counts are in time

@@ -59,8 +59,12 @@ pub enum Scheme {
         validation: Size,
         stratify: bool,
     },
-    LeaveOneOut,
-    LeaveOneGroupOut,
+    /// `leave-one-out` in plans: one split per development row.
+    #[serde(rename = "leave-one-out")]
+    OneRowOut,
+    /// `leave-one-group-out` in plans: one split per group.
+    #[serde(rename = "leave-one-group-out")]
+    OneGroupOut,
     /// Counts are in time points (distinct order values), so rows that share
     /// an order value never straddle a cut.
     ForwardChaining {
@@ -119,8 +123,8 @@ fn run(ctx: &Ctx<'_>, scheme: &Scheme) -> Result<Vec<Split>, ResampleError> {
             validation,
             stratify,
         } => monte_carlo(ctx, splits, train, validation, stratify),
-        Scheme::LeaveOneOut => leave_one_out(ctx),
-        Scheme::LeaveOneGroupOut => leave_one_group_out(ctx),
+        Scheme::OneRowOut => leave_one_out(ctx),
+        Scheme::OneGroupOut => leave_one_group_out(ctx),
         Scheme::ForwardChaining {
             splits,
             window,

@@ -190,14 +190,14 @@ proptest! {
     #[test]
     fn leave_out_counts(d in data(), grouped: bool) {
         let facts = d.facts(false, grouped, false);
-        if let Ok(got) = splits(&Scheme::LeaveOneOut, &d.rows, facts, 1) {
+        if let Ok(got) = splits(&Scheme::OneRowOut, &d.rows, facts, 1) {
             prop_assert_eq!(got.len(), d.rows.len());
             prop_assert!(got.iter().all(|s| s.validation.len() == 1 && s.train.len() + 1 == d.rows.len()));
             prop_assert!(!grouped || got.iter().all(|s| groups_apart(&d, s)));
         } else {
             prop_assert!(d.rows.len() < 2 || (grouped && d.groups() < d.rows.len()));
         }
-        let got = splits(&Scheme::LeaveOneGroupOut, &d.rows, d.facts(false, true, false), 1);
+        let got = splits(&Scheme::OneGroupOut, &d.rows, d.facts(false, true, false), 1);
         prop_assert_eq!(got.is_ok(), d.groups() >= 2);
         for (u, s) in got.unwrap_or_default().iter().enumerate() {
             prop_assert_eq!(s.fold as usize, u);
@@ -307,7 +307,7 @@ proptest! {
         let outer = [
             Scheme::KFold { folds: 2, repeats: 1, stratify: false },
             Scheme::MonteCarlo { splits: 2, train: Size::Fraction(0.6), validation: Size::Fraction(0.3), stratify: false },
-            Scheme::LeaveOneGroupOut,
+            Scheme::OneGroupOut,
         ];
         let inner = Scheme::Bootstrap { splits: 2, stratify: false };
         let scheme = Scheme::Nested { outer: Box::new(outer[pick].clone()), inner: Box::new(inner) };
@@ -335,8 +335,8 @@ fn nested_leave_one_out_by_hand() {
     // By hand: rows 4, 7, 9; outer and inner leave-one-out. Outer split 0
     // trains on 7, 9 and its inner splits are (9 | 7) and (7 | 9); and so on.
     let scheme = Scheme::Nested {
-        outer: Box::new(Scheme::LeaveOneOut),
-        inner: Box::new(Scheme::LeaveOneOut),
+        outer: Box::new(Scheme::OneRowOut),
+        inner: Box::new(Scheme::OneRowOut),
     };
     let got = splits(&scheme, &[4, 7, 9], RowFacts::default(), 0).expect("nested splits");
     type Brief = (Role, Option<usize>, Vec<u32>, Vec<u32>);
