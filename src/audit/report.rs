@@ -124,25 +124,33 @@ fn selection_line(e: &Entry) -> SelectionLine {
     }
 }
 
-fn compared_before(selections: &[Entry], seq: u64) -> usize {
-    let mut ids = BTreeSet::new();
-    for s in selections.iter().filter(|s| s.seq < seq) {
-        for c in s
-            .body
-            .get("candidates")
-            .and_then(Value::as_array)
-            .into_iter()
-            .flatten()
-        {
-            if c.get("reference") != Some(&Value::Bool(true)) {
-                ids.insert(text(c, "id"));
+/// For each opening (in seq order), the distinct candidates compared in
+/// selections of the partition before it: one pass over both lists, which
+/// are in seq order.
+fn compared_before(selections: &[Entry], openings: &[Entry]) -> Vec<usize> {
+    let mut ids: BTreeSet<&str> = BTreeSet::new();
+    let mut next = 0;
+    openings
+        .iter()
+        .map(|o| {
+            while next < selections.len() && selections[next].seq < o.seq {
+                let candidates = selections[next]
+                    .body
+                    .get("candidates")
+                    .and_then(Value::as_array);
+                for c in candidates.into_iter().flatten() {
+                    if c.get("reference") != Some(&Value::Bool(true)) {
+                        ids.insert(c.get("id").and_then(Value::as_str).unwrap_or_default());
+                    }
+                }
+                next += 1;
             }
-        }
-    }
-    ids.len()
+            ids.len()
+        })
+        .collect()
 }
 
-fn opening_line(e: &Entry, selections: &[Entry]) -> OpeningLine {
+fn opening_line(e: &Entry, compared: usize) -> OpeningLine {
     OpeningLine {
         seq: e.seq,
         hash: e.hash.clone(),
@@ -155,7 +163,7 @@ fn opening_line(e: &Entry, selections: &[Entry]) -> OpeningLine {
         metric: text(&e.body, "metric"),
         score: e.body.get("score").and_then(Value::as_f64),
         reason: text(&e.body, "reason"),
-        candidates_compared_before: compared_before(selections, e.seq),
+        candidates_compared_before: compared,
     }
 }
 
@@ -199,7 +207,8 @@ fn partition(ledger: &Ledger, metas: &[&EntryMeta]) -> Result<PartitionAudit, Le
         sealed_rows,
         openings: openings
             .iter()
-            .map(|o| opening_line(o, &selections))
+            .zip(compared_before(&selections, &openings))
+            .map(|(o, n)| opening_line(o, n))
             .collect(),
         rows_by_openings: by,
         selections: selections.iter().map(selection_line).collect(),
