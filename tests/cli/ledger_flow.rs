@@ -217,6 +217,15 @@ fn openings_are_counted_and_refused_without_again() {
         .filter_map(|o| o["reason"].as_str())
         .collect();
     assert_eq!(reasons, ["final report", "reviewer asked", "third look"]);
+    // One selection of 5 candidates (3 + 2; the baseline is not counted) ran before every opening.
+    let compared: Vec<u64> = parts[0]["openings"]
+        .as_array()
+        .into_iter()
+        .flatten()
+        .filter_map(|o| o["candidates_compared_before"].as_u64())
+        .collect();
+    assert_eq!(compared, [5, 5, 5]);
+    assert_eq!(parts[0]["selections"].as_array().map(Vec::len), Some(1));
     // Every sealed row was in all three openings.
     assert_eq!(parts[0]["rows_by_openings"], serde_json::json!({ "3": n }));
     let text = ok(&fx, &["audit", "plan.toml"]);
