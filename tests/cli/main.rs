@@ -4,6 +4,7 @@
 mod support;
 
 mod data_errors;
+mod examples;
 mod ledger_flow;
 mod plan_check;
 mod report;
