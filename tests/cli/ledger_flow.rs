@@ -197,6 +197,8 @@ fn openings_are_counted_and_refused_without_again() {
         ],
     ));
     assert_eq!(second["openings"], 2);
+    let shown = json(&ok(&fx, &["show", "latest", "--json"]));
+    assert_eq!(shown, second, "unseal --json prints what show --json shows");
     // Bonferroni for m = 2 openings: level 1 - 0.05/2 (METHODS.md), wider than the 95% interval.
     assert_eq!(second["bonferroni"]["level"].as_f64(), Some(0.975));
     assert!(second["bonferroni"]["low"].as_f64() <= second["interval"]["low"].as_f64());
