@@ -12,7 +12,7 @@ pub(crate) mod fit_common;
 
 use ndarray::{Array2, ArrayView2};
 
-use self::fit_common::{check_known, check_matrices, class_part, data_error, fail_all, value_part};
+use self::fit_common::{check_matrices, class_part, data_error, same_for_all, value_part};
 use super::{
     LearnError, Learner, Note, Outcome, Predictions, SettingSpec, Settings, Task, TrainPart,
 };
@@ -52,13 +52,7 @@ impl Learner for Baseline {
         queries: &[ArrayView2<'_, f64>],
         family: &[Settings],
     ) -> Vec<Result<Outcome, LearnError>> {
-        match fit(task, train, queries) {
-            Err(e) => fail_all(&e, family.len()),
-            Ok(outcome) => family
-                .iter()
-                .map(|s| check_known(NAME, SETTINGS, s).map(|()| outcome.clone()))
-                .collect(),
-        }
+        same_for_all(NAME, SETTINGS, family, fit(task, train, queries))
     }
 }
 

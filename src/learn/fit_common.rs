@@ -10,11 +10,31 @@
 
 use ndarray::{Array2, ArrayView2};
 
-use crate::learn::{LearnError, SettingSpec, SettingValue, Settings, Targets, Task, TrainPart};
+use crate::learn::{
+    LearnError, Outcome, SettingSpec, SettingValue, Settings, Targets, Task, TrainPart,
+};
 
 /// `error` in the slot of every one of `count` candidates.
 pub(crate) fn fail_all<T>(error: &LearnError, count: usize) -> Vec<Result<T, LearnError>> {
     (0..count).map(|_| Err(error.clone())).collect()
+}
+
+/// The results of a learner without settings: one fitted outcome (or one
+/// failure) shared by every candidate of the family, each of which may only
+/// name settings the learner knows.
+pub(crate) fn same_for_all(
+    learner: &'static str,
+    specs: &[SettingSpec],
+    family: &[Settings],
+    fitted: Result<Outcome, LearnError>,
+) -> Vec<Result<Outcome, LearnError>> {
+    match fitted {
+        Err(e) => fail_all(&e, family.len()),
+        Ok(outcome) => family
+            .iter()
+            .map(|s| check_known(learner, specs, s).map(|()| outcome.clone()))
+            .collect(),
+    }
 }
 
 /// A data error of `learner`.

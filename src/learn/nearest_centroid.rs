@@ -19,8 +19,8 @@
 use ndarray::{ArrayView1, ArrayView2};
 
 use super::baseline::fit_common::{
-    ClassPart, argmin, check_known, check_matrices, class_part, data_error, fail_all,
-    probability_matrix, shifted_mean, softmax,
+    ClassPart, argmin, check_matrices, class_part, data_error, probability_matrix, same_for_all,
+    shifted_mean, softmax,
 };
 use super::{
     LearnError, Learner, Note, Outcome, Predictions, SettingSpec, Settings, Task, TrainPart,
@@ -60,13 +60,7 @@ impl Learner for MeanCentroid {
         queries: &[ArrayView2<'_, f64>],
         family: &[Settings],
     ) -> Vec<Result<Outcome, LearnError>> {
-        match fit(task, train, queries) {
-            Err(e) => fail_all(&e, family.len()),
-            Ok(outcome) => family
-                .iter()
-                .map(|s| check_known(NAME, SETTINGS, s).map(|()| outcome.clone()))
-                .collect(),
-        }
+        same_for_all(NAME, SETTINGS, family, fit(task, train, queries))
     }
 }
 
