@@ -153,14 +153,17 @@ pub fn configure(conn: &Connection, path: &Path) -> Result<(), LedgerError> {
 /// program's database and a newer schema.
 pub fn inspect(conn: &Connection, path: &Path) -> Result<State, LedgerError> {
     let fail = |e| LedgerError::from_sqlite(path, e);
-    let app_id: i64 = conn
-        .pragma_query_value(None, "application_id", |r| r.get(0))
-        .map_err(fail)?;
-    let version: i64 = conn
-        .pragma_query_value(None, "user_version", |r| r.get(0))
-        .map_err(fail)?;
-    let objects: i64 = conn
-        .query_row("SELECT count(*) FROM sqlite_schema", [], |r| r.get(0))
+    // One statement, so one snapshot: three separate reads could straddle
+    // another process's first migration and see its application id unset
+    // but its tables present.
+    let (app_id, version, objects): (i64, i64, i64) = conn
+        .query_row(
+            "SELECT (SELECT application_id FROM pragma_application_id), \
+                    (SELECT user_version FROM pragma_user_version), \
+                    (SELECT count(*) FROM sqlite_schema)",
+            [],
+            |r| Ok((r.get(0)?, r.get(1)?, r.get(2)?)),
+        )
         .map_err(fail)?;
     let path = path.to_path_buf();
     if app_id == APPLICATION_ID && version > SCHEMA_VERSION {
@@ -180,16 +183,39 @@ pub fn inspect(conn: &Connection, path: &Path) -> Result<State, LedgerError> {
 /// Switch the file to write-ahead logging, so that readers never block the
 /// writer; the mode is stored in the file and persists.
 pub fn enable_wal(conn: &Connection, path: &Path) -> Result<(), LedgerError> {
-    let mode: String = conn
-        .pragma_update_and_check(None, "journal_mode", "wal", |r| r.get(0))
-        .map_err(|e| wal_failure(path, &e.to_string()))?;
-    if mode.eq_ignore_ascii_case("wal") {
-        return Ok(());
+    // Changing the journal mode needs an exclusive lock, and SQLite does not
+    // wait for it through the busy handler: when another process is creating
+    // the same ledger at this moment, wait for it here (up to the busy
+    // timeout), and skip the change once the file is already in WAL mode.
+    let deadline = std::time::Instant::now() + BUSY_TIMEOUT;
+    loop {
+        let current: String = conn
+            .pragma_query_value(None, "journal_mode", |r| r.get(0))
+            .map_err(|e| wal_failure(path, &e.to_string()))?;
+        if current.eq_ignore_ascii_case("wal") {
+            return Ok(());
+        }
+        match conn.pragma_update_and_check(None, "journal_mode", "wal", |r| r.get::<_, String>(0)) {
+            Ok(mode) if mode.eq_ignore_ascii_case("wal") => return Ok(()),
+            Ok(mode) => {
+                return Err(wal_failure(
+                    path,
+                    &format!("the journal mode stayed {mode}"),
+                ));
+            }
+            Err(e) if is_busy(&e) && std::time::Instant::now() < deadline => {
+                std::thread::sleep(Duration::from_millis(20));
+            }
+            Err(e) => return Err(wal_failure(path, &e.to_string())),
+        }
     }
-    Err(wal_failure(
-        path,
-        &format!("the journal mode stayed {mode}"),
-    ))
+}
+
+fn is_busy(e: &rusqlite::Error) -> bool {
+    matches!(
+        e.sqlite_error_code(),
+        Some(rusqlite::ErrorCode::DatabaseBusy | rusqlite::ErrorCode::DatabaseLocked)
+    )
 }
 
 fn wal_failure(path: &Path, reason: &str) -> LedgerError {

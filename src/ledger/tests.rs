@@ -684,3 +684,29 @@ fn reading_leaves_no_files_behind() {
         .collect();
     assert_eq!(names, ["holdfast.sqlite"]);
 }
+
+#[test]
+fn processes_creating_the_same_ledger_at_once_all_open_it() {
+    // Eight connections race to create one new ledger: each must open it
+    // (none may see a half-migrated file as "not a ledger", or fail to
+    // switch to WAL while another holds the lock), and every append lands.
+    for round in 0..20 {
+        let dir = tempfile::tempdir().expect("temp dir");
+        let path = dir.path().join("race.sqlite");
+        let handles: Vec<_> = (0..8)
+            .map(|i| {
+                let path = path.clone();
+                std::thread::spawn(move || {
+                    Ledger::open(&path).and_then(|l| l.append(selection(i)).map(|_| ()))
+                })
+            })
+            .collect();
+        for h in handles {
+            let outcome = h.join().expect("thread");
+            assert!(outcome.is_ok(), "round {round}: {outcome:?}");
+        }
+        let ledger = Ledger::open_existing(&path).expect("open");
+        assert_eq!(ledger.list().expect("list").len(), 8);
+        assert!(ledger.verify(None).expect("verify").is_intact());
+    }
+}
