@@ -82,8 +82,9 @@ fn score_all(
     into: &mut BTreeMap<String, f64>,
     undefined: &mut BTreeMap<String, String>,
 ) {
-    for &m in Metric::for_task(task) {
-        match score::score(m, truth, pred) {
+    let metrics = Metric::for_task(task);
+    for (&m, value) in metrics.iter().zip(score::score_many(metrics, truth, pred)) {
+        match value {
             Ok(v) if v.is_finite() => {
                 into.insert(m.name().to_string(), v);
             }

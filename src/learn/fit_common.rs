@@ -337,16 +337,28 @@ pub(crate) fn shifted_mean(values: impl Iterator<Item = f64> + Clone) -> f64 {
 /// overflows and the largest term is exactly 1 (common practice). The caller
 /// guarantees at least one `Some`, all finite.
 pub(crate) fn softmax(scores: &[Option<f64>]) -> Vec<f64> {
+    let mut out = vec![0.0; scores.len()];
+    softmax_into(scores, &mut out);
+    out
+}
+
+/// [`softmax`] written into `out` (as long as `scores`). `exp(0) = 1`
+/// exactly, so the maximum's term is written as 1 without calling `exp`.
+pub(crate) fn softmax_into(scores: &[Option<f64>], out: &mut [f64]) {
     let max = scores
         .iter()
         .flatten()
         .fold(f64::NEG_INFINITY, |m, &s| if s > m { s } else { m });
-    let exps: Vec<f64> = scores
-        .iter()
-        .map(|s| s.map_or(0.0, |s| libm::exp(s - max)))
-        .collect();
-    let total: f64 = exps.iter().sum();
-    exps.iter().map(|e| e / total).collect()
+    for (o, s) in out.iter_mut().zip(scores) {
+        *o = s.map_or(0.0, |s| {
+            let d = s - max;
+            if d == 0.0 { 1.0 } else { libm::exp(d) }
+        });
+    }
+    let total: f64 = out.iter().sum();
+    for o in out.iter_mut() {
+        *o /= total;
+    }
 }
 
 /// A rows x classes matrix from one probability vector per row.

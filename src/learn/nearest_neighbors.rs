@@ -20,9 +20,10 @@
 //! - `k` larger than the training part: all training rows vote and the note
 //!   says so (not an error).
 //! - A family is served by one search per distance with its largest `k`:
-//!   the list for a smaller `k` is a prefix of that list, and the votes are
-//!   computed from the prefix by the same code as a lone candidate, so the
-//!   results are identical bit for bit.
+//!   the list for a smaller `k` is a prefix of that list. Per query row one
+//!   walk along the list (per vote) adds the voters in neighbour order and
+//!   records each `k` when its voters are in; those sums are exactly what a
+//!   lone candidate adds, so the results are identical bit for bit.
 //! - Simplicity key: `[k]` (more neighbours smooth more: larger `k` is
 //!   simpler).
 
@@ -240,20 +241,111 @@ fn predict_query(
         .iter()
         .map(|_| Collect::new(part, q.nrows()))
         .collect();
+    let groups = vote_groups(members);
+    let mut walk = Walk::default();
     let step = chunk_rows(k_max);
     let mut start = 0;
     while start < q.nrows() {
         let end = (start + step).min(q.nrows());
         let lists = index.query_rows(q.slice(s![start..end, ..]), k_max);
-        for ((_, c), sink) in members.iter().zip(out.iter_mut()) {
-            for list in &lists {
-                let voters = &list[..c.k.min(list.len())];
-                sink.push(part, voters, c.inverse);
+        for list in &lists {
+            for (inverse, group) in &groups {
+                walk.row(part, list, *inverse, group, &mut out);
             }
         }
         start = end;
     }
     out.into_iter().map(Collect::finish).collect()
+}
+
+/// The members (by position) and their `k`, split by vote, each group in
+/// increasing `k` (ties by position): one walk along a row's neighbour list
+/// serves a whole group.
+fn vote_groups(members: &[(usize, Candidate)]) -> Vec<(bool, Vec<(usize, usize)>)> {
+    [false, true]
+        .into_iter()
+        .map(|inverse| {
+            let mut group: Vec<(usize, usize)> = members
+                .iter()
+                .enumerate()
+                .filter(|(_, (_, c))| c.inverse == inverse)
+                .map(|(i, (_, c))| (i, c.k))
+                .collect();
+            group.sort_by_key(|&(i, k)| (k, i));
+            (inverse, group)
+        })
+        .filter(|(_, group)| !group.is_empty())
+        .collect()
+}
+
+/// Scratch for one walk along a neighbour list, reused from row to row.
+#[derive(Default)]
+struct Walk {
+    weights: Vec<f64>,
+    /// Per class, the summed weight so far.
+    shares: Vec<f64>,
+    /// Per class, the nearest voter's distance so far.
+    nearest: Vec<f64>,
+}
+
+impl Walk {
+    /// Walks `list` once, adding voters in neighbour order, and records each
+    /// member of `group` when its `k` voters are in. A member's vote is the
+    /// sums over the first `k` voters added in neighbour order, so it is
+    /// exactly what a walk for that member alone would give.
+    fn row(
+        &mut self,
+        part: &Part<'_>,
+        list: &[Neighbor],
+        inverse: bool,
+        group: &[(usize, usize)],
+        sinks: &mut [Collect],
+    ) {
+        let last = group.last().map_or(0, |g| g.1).min(list.len());
+        let voters = &list[..last];
+        weights(voters, inverse, &mut self.weights);
+        let due =
+            |next: usize, added: usize| next < group.len() && group[next].1.min(last) <= added;
+        let mut next = 0;
+        match part {
+            Part::Classes(p) => {
+                self.shares.clear();
+                self.shares.resize(p.classes, 0.0);
+                self.nearest.clear();
+                self.nearest.resize(p.classes, f64::INFINITY);
+                for (j, (n, &w)) in voters.iter().zip(&self.weights).enumerate() {
+                    let c = p.y[n.row as usize] as usize;
+                    self.shares[c] += w;
+                    if w > 0.0 && n.distance < self.nearest[c] {
+                        self.nearest[c] = n.distance;
+                    }
+                    while due(next, j + 1) {
+                        sinks[group[next].0].push_vote(&self.shares, &self.nearest);
+                        next += 1;
+                    }
+                }
+                while next < group.len() {
+                    sinks[group[next].0].push_vote(&self.shares, &self.nearest);
+                    next += 1;
+                }
+            }
+            Part::Values(y) => {
+                let (mut sum, mut total) = (0.0, 0.0);
+                for (j, (n, &w)) in voters.iter().zip(&self.weights).enumerate() {
+                    sum += w * y[n.row as usize];
+                    total += w;
+                    while due(next, j + 1) {
+                        sinks[group[next].0].push_mean(sum / total);
+                        next += 1;
+                    }
+                }
+                while next < group.len() {
+                    sinks[group[next].0].push_mean(sum / total);
+                    next += 1;
+                }
+            }
+        }
+    }
 }
 
 /// Predictions of one candidate on one query matrix, row by row.
@@ -262,15 +354,8 @@ enum Collect {
         classes: usize,
         labels: Vec<u32>,
         probabilities: Vec<f64>,
-        /// Per class, the nearest voter's distance (reused row to row).
-        nearest: Vec<f64>,
-        /// The voters' weights (reused row to row).
-        weights: Vec<f64>,
     },
-    Values {
-        values: Vec<f64>,
-        weights: Vec<f64>,
-    },
+    Values(Vec<f64>),
 }
 
 impl Collect {
@@ -280,39 +365,39 @@ impl Collect {
                 classes: p.classes,
                 labels: Vec::with_capacity(rows),
                 probabilities: Vec::with_capacity(rows * p.classes),
-                nearest: Vec::with_capacity(p.classes),
-                weights: Vec::new(),
             },
-            Part::Values(_) => Collect::Values {
-                values: Vec::with_capacity(rows),
-                weights: Vec::new(),
-            },
+            Part::Values(_) => Collect::Values(Vec::with_capacity(rows)),
         }
     }
 
-    fn push(&mut self, part: &Part<'_>, voters: &[Neighbor], inverse: bool) {
-        match (self, part) {
-            (
-                Collect::Classes {
-                    classes,
-                    labels,
-                    probabilities,
-                    nearest,
-                    weights: w,
-                },
-                Part::Classes(p),
-            ) => {
-                weights(voters, inverse, w);
-                let start = probabilities.len();
-                probabilities.resize(start + *classes, 0.0);
-                labels.push(vote(voters, w, p.y, &mut probabilities[start..], nearest));
+    /// Records a row's vote from the summed weights per class: the shares
+    /// are the weights over their total, and the winner is the largest
+    /// weight, then the smallest nearest distance among its voters, then the
+    /// lower code.
+    fn push_vote(&mut self, shares: &[f64], nearest: &[f64]) {
+        if let Collect::Classes {
+            labels,
+            probabilities,
+            ..
+        } = self
+        {
+            let mut best = 0;
+            for c in 1..shares.len() {
+                let better = shares[c] > shares[best]
+                    || (shares[c] == shares[best] && nearest[c] < nearest[best]);
+                if better {
+                    best = c;
+                }
             }
-            (Collect::Values { values, weights: w }, Part::Values(y)) => {
-                weights(voters, inverse, w);
-                values.push(mean(voters, w, y));
-            }
-            // `Collect::new` pairs each sink with the part it was made for.
-            _ => {}
+            let total: f64 = shares.iter().sum();
+            probabilities.extend(shares.iter().map(|v| v / total));
+            labels.push(best as u32);
+        }
+    }
+
+    fn push_mean(&mut self, value: f64) {
+        if let Collect::Values(values) = self {
+            values.push(value);
         }
     }
 
@@ -322,7 +407,6 @@ impl Collect {
                 classes,
                 labels,
                 probabilities,
-                ..
             } => {
                 let rows = labels.len();
                 let probabilities = Array2::from_shape_vec((rows, classes), probabilities)
@@ -332,7 +416,7 @@ impl Collect {
                     probabilities,
                 }
             }
-            Collect::Values { values, .. } => Predictions::Values(values),
+            Collect::Values(values) => Predictions::Values(values),
         }
     }
 }
@@ -340,7 +424,8 @@ impl Collect {
 /// The weight of each voter: 1 each (equal), `d_1 / d_i` (inverse-distance),
 /// or, when the nearest distance is 0, 1 for each zero-distance voter and 0
 /// for the rest. The first voter always weighs 1, so the total is positive.
-/// Written into `out` (cleared first), which is reused from row to row.
+/// Written into `out` (cleared first), which is reused from row to row. The
+/// weights of the first `k` voters do not depend on how many follow.
 fn weights(voters: &[Neighbor], inverse: bool, out: &mut Vec<f64>) {
     out.clear();
     let nearest = voters.first().map_or(0.0, |n| n.distance);
@@ -355,51 +440,6 @@ fn weights(voters: &[Neighbor], inverse: bool, out: &mut Vec<f64>) {
     } else {
         out.extend(voters.iter().map(|n| nearest / n.distance));
     }
-}
-
-/// Fills `shares` (one slot per class) with the weighted vote shares and
-/// returns the winning class: the largest weight, then the smallest nearest
-/// distance among its voters, then the lower code. `nearest` is scratch.
-fn vote(
-    voters: &[Neighbor],
-    weights: &[f64],
-    y: &[u32],
-    shares: &mut [f64],
-    nearest: &mut Vec<f64>,
-) -> u32 {
-    nearest.clear();
-    nearest.resize(shares.len(), f64::INFINITY);
-    for (n, w) in voters.iter().zip(weights) {
-        let c = y[n.row as usize] as usize;
-        shares[c] += w;
-        if *w > 0.0 && n.distance < nearest[c] {
-            nearest[c] = n.distance;
-        }
-    }
-    let mut best = 0;
-    for c in 1..shares.len() {
-        let better =
-            shares[c] > shares[best] || (shares[c] == shares[best] && nearest[c] < nearest[best]);
-        if better {
-            best = c;
-        }
-    }
-    let total: f64 = shares.iter().sum();
-    for v in shares.iter_mut() {
-        *v /= total;
-    }
-    best as u32
-}
-
-/// The weighted mean of the voters' targets, summed in neighbour order.
-fn mean(voters: &[Neighbor], weights: &[f64], y: &[f64]) -> f64 {
-    let mut sum = 0.0;
-    let mut total = 0.0;
-    for (n, w) in voters.iter().zip(weights) {
-        sum += w * y[n.row as usize];
-        total += w;
-    }
-    sum / total
 }
 
 /// Direct access to the exact search for the benchmarks under `benches/`

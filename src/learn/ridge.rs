@@ -38,7 +38,7 @@ pub(super) mod numeric;
 use nalgebra::DMatrix;
 use ndarray::ArrayView2;
 
-use numeric::{Svd, centred_dot, check_inputs, column_means, read_nonnegative};
+use numeric::{Svd, check_inputs, column_means, read_nonnegative};
 
 use super::{
     LearnError, Learner, Note, Outcome, Predictions, SettingDefault, SettingKind, SettingSpec,
@@ -111,7 +111,8 @@ fn setting_error(message: &str) -> LearnError {
 struct Decomposed {
     x_mean: Vec<f64>,
     y_mean: f64,
-    y_centred: Vec<f64>,
+    /// `u_i . (y - ybar)` per component: shared by every `lambda`.
+    projected: Vec<f64>,
     svd: Svd,
 }
 
@@ -137,17 +138,19 @@ impl Decomposed {
         let centred = DMatrix::from_fn(n, p, |i, j| train.x[[i, j]] - x_mean[j]);
         let svd = Svd::new(centred)
             .ok_or_else(|| data_error("the decomposition of the design did not converge"))?;
+        let projected = svd.project(&y_centred);
         Ok(Decomposed {
             x_mean,
             y_mean,
-            y_centred,
+            projected,
             svd,
         })
     }
 
     /// Coefficients for `lambda` (finite, >= 0).
     fn solve(&self, lambda: f64) -> Vec<f64> {
-        self.svd.apply(&self.y_centred, |s| 1.0 / (s + lambda / s))
+        self.svd
+            .apply_projected(&self.projected, |s| 1.0 / (s + lambda / s))
     }
 
     fn note(&self) -> Note {
@@ -165,11 +168,28 @@ impl Decomposed {
         }
     }
 
-    fn predict(&self, b: &[f64], q: ArrayView2<'_, f64>) -> Vec<f64> {
-        q.rows()
-            .into_iter()
-            .map(|row| self.y_mean + centred_dot(row, &self.x_mean, b))
-            .collect()
+    /// Every coefficient vector's predictions on `q`, in one pass over its
+    /// rows: each row is centred once, then `ybar + sum_j (x_j - xbar_j) b_j`
+    /// in feature order per vector.
+    fn predict_all(&self, coefficients: &[Vec<f64>], q: ArrayView2<'_, f64>) -> Vec<Vec<f64>> {
+        let mut out: Vec<Vec<f64>> = coefficients
+            .iter()
+            .map(|_| Vec::with_capacity(q.nrows()))
+            .collect();
+        let mut centred = vec![0.0; self.x_mean.len()];
+        for row in q.rows() {
+            for ((c, &x), &m) in centred.iter_mut().zip(row).zip(&self.x_mean) {
+                *c = x - m;
+            }
+            for (b, values) in coefficients.iter().zip(out.iter_mut()) {
+                let mut acc = 0.0;
+                for (&c, &bj) in centred.iter().zip(b) {
+                    acc += c * bj;
+                }
+                values.push(self.y_mean + acc);
+            }
+        }
+        out
     }
 }
 
@@ -218,17 +238,27 @@ impl Learner for Ridge {
             Err(e) => return family.iter().map(|_| Err(e.clone())).collect(),
         };
         let note = fit.note();
-        family
+        let solved: Vec<Result<Vec<f64>, LearnError>> = family
             .iter()
-            .map(|settings| {
-                let lambda = read_nonnegative(NAME, settings, "lambda")?;
-                let b = fit.solve(lambda);
-                let predictions = queries
-                    .iter()
-                    .map(|q| Predictions::Values(fit.predict(&b, *q)))
-                    .collect();
-                Ok(Outcome {
-                    predictions,
+            .map(|settings| read_nonnegative(NAME, settings, "lambda").map(|l| fit.solve(l)))
+            .collect();
+        let good: Vec<Vec<f64>> = solved
+            .iter()
+            .filter_map(|b| b.as_ref().ok())
+            .cloned()
+            .collect();
+        let mut per_query: Vec<std::vec::IntoIter<Vec<f64>>> = queries
+            .iter()
+            .map(|q| fit.predict_all(&good, *q).into_iter())
+            .collect();
+        solved
+            .into_iter()
+            .map(|b| {
+                b.map(|_| Outcome {
+                    predictions: per_query
+                        .iter_mut()
+                        .map(|p| Predictions::Values(p.next().unwrap_or_default()))
+                        .collect(),
                     note: note.clone(),
                 })
             })

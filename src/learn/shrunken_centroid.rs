@@ -10,14 +10,22 @@
 //!   `delta` to `d'_ik = sign(d_ik) max(|d_ik| - delta, 0)`;
 //! - `xbar'_ik = xbar_i + m_k (s_i + s_0) d'_ik`;
 //! - `score_k(x) = sum_i (x_i - xbar'_ik)^2 / (s_i + s_0)^2 - 2 log pi_k`
-//!   with `pi_k = n_k / n`, summed over every feature in feature order;
-//!   the smallest score wins (ties by class order) and the probabilities
+//!   with `pi_k = n_k / n`; the smallest score wins (ties by class order) and the probabilities
 //!   are `softmax(-score_k / 2)` with the maximum subtracted.
 //!
 //! A feature is active when any `d'_ik != 0`; the count is in the note of
-//! every candidate. One fit (means, spreads, `m_k`, `d_ik`) serves every
-//! `delta` of a family; each `delta` then runs the same code a lone
-//! candidate would, so the results are identical bit for bit.
+//! every candidate.
+//!
+//! How a family is computed: one fit (means, spreads, `m_k`, `d_ik`) serves
+//! every `delta`. The score is evaluated in its expanded form (see
+//! [`Path`]): per class the features are ordered by decreasing `|d_ik|`, so
+//! the active features of any `delta` are a prefix of that order; per query
+//! row the prefix sums along each class's order are computed once, and each
+//! `delta` reads its score off them in constant time per class. The term
+//! `sum_i u_i^2` common to every class is left out (it changes neither the
+//! winner nor the softmax). What a `delta` computes does not depend on the
+//! other members of its family, so a family's results are those of each
+//! candidate alone, bit for bit.
 //!
 //! Degenerate parts (decided here): a part with one class predicts it with
 //! a remark (0 active features); a class with fewer than two training rows,
@@ -30,11 +38,11 @@
 //! remark. Simplicity key: `[delta]` (a larger threshold keeps fewer
 //! features, so it is simpler).
 
-use ndarray::{ArrayView1, ArrayView2};
+use ndarray::{Array2, ArrayView2};
 
 use super::baseline::fit_common::{
     ClassPart, argmin, check_known, check_matrices, class_part, data_error, fail_all, join_remarks,
-    probability_matrix, read_float, shifted_mean, softmax,
+    probability_matrix, read_float, shifted_mean, softmax_into,
 };
 use super::nearest_centroid::class_means;
 use super::{
@@ -85,19 +93,40 @@ impl Learner for ShrunkenCentroid {
         let fitted = class_part(NAME, task, train)
             .and_then(|part| check_matrices(NAME, train, queries).map(|()| part))
             .and_then(|part| Model::new(train.x, &part, queries));
-        match fitted {
-            Err(e) => fail_all(&e, family.len()),
-            Ok(model) => family
-                .iter()
-                .map(|s| {
-                    check_known(NAME, SETTINGS, s)?;
-                    let delta = read_float(NAME, &SETTINGS[0], 0.0, s)?;
-                    Ok(match &model {
-                        Model::OneClass(outcome) => outcome.clone(),
-                        Model::Shrunken(fit) => fit.outcome(delta, queries)?,
-                    })
-                })
+        let model = match fitted {
+            Err(e) => return fail_all(&e, family.len()),
+            Ok(model) => model,
+        };
+        let deltas: Vec<Result<f64, LearnError>> = family
+            .iter()
+            .map(|s| {
+                check_known(NAME, SETTINGS, s)?;
+                read_float(NAME, &SETTINGS[0], 0.0, s)
+            })
+            .collect();
+        match &model {
+            Model::OneClass(outcome) => deltas
+                .into_iter()
+                .map(|d| d.map(|_| outcome.clone()))
                 .collect(),
+            Model::Shrunken(fit) => {
+                let good: Vec<f64> = deltas
+                    .iter()
+                    .filter_map(|d| d.as_ref().ok())
+                    .copied()
+                    .collect();
+                let mut outcomes = fit.outcomes(&good, queries).into_iter();
+                deltas
+                    .into_iter()
+                    .map(|d| {
+                        d.and_then(|_| {
+                            outcomes
+                                .next()
+                                .unwrap_or_else(|| Err(data_error(NAME, "no outcome was computed")))
+                        })
+                    })
+                    .collect()
+            }
         }
     }
 }
@@ -193,104 +222,250 @@ impl Fit {
         })
     }
 
-    /// The soft-thresholded `d'_ik` for `delta`, per present class.
-    fn shrunk(&self, delta: f64) -> Vec<Vec<f64>> {
-        self.d
-            .iter()
-            .map(|dk| {
-                dk.iter()
-                    .map(|&d| {
-                        let a = d.abs() - delta;
-                        if a > 0.0 { a.copysign(d) } else { 0.0 }
-                    })
-                    .collect()
-            })
-            .collect()
-    }
-
-    /// The shrunken centroids `xbar'_ik` for `d'`.
-    fn centroids(&self, shrunk: &[Vec<f64>]) -> Vec<Vec<f64>> {
-        shrunk
+    /// The outcome of every `delta` in `deltas`, in order, from one pass
+    /// over the query rows.
+    fn outcomes(
+        &self,
+        deltas: &[f64],
+        queries: &[ArrayView2<'_, f64>],
+    ) -> Vec<Result<Outcome, LearnError>> {
+        let paths: Vec<Path> = self.d.iter().map(|dk| Path::new(dk)).collect();
+        let terms: Vec<Terms> = deltas.iter().map(|&d| self.terms(&paths, d)).collect();
+        let mut per_query: Vec<Vec<Option<Predictions>>> = Vec::with_capacity(queries.len());
+        for q in queries {
+            per_query.push(self.predict(&paths, &terms, *q));
+        }
+        terms
             .iter()
             .enumerate()
-            .map(|(k, dk)| {
-                dk.iter()
-                    .enumerate()
-                    .map(|(i, &d)| self.xbar[i] + self.m[k] * (self.s[i] + self.s0) * d)
-                    .collect()
+            .map(|(c, t)| {
+                let predictions = per_query
+                    .iter_mut()
+                    .map(|preds| preds[c].take())
+                    .collect::<Option<Vec<Predictions>>>()
+                    .ok_or_else(|| {
+                        data_error(NAME, "a class score overflows; scale the features")
+                    })?;
+                Ok(Outcome {
+                    predictions,
+                    note: self.note(t),
+                })
             })
             .collect()
     }
 
-    /// `score_k(x)` for each present class.
-    fn scores(&self, centroids: &[Vec<f64>], row: ArrayView1<'_, f64>) -> Vec<f64> {
-        centroids
+    /// What one `delta` needs beyond the row: per present class the number
+    /// of active features and the part of the score that does not depend
+    /// on the row.
+    fn terms(&self, paths: &[Path], delta: f64) -> Terms {
+        let active: Vec<usize> = paths
             .iter()
-            .zip(&self.log_prior)
-            .map(|(c, lp)| {
-                let mut sum = 0.0;
-                for (i, x) in row.iter().enumerate() {
-                    let t = x - c[i];
-                    let w = self.s[i] + self.s0;
-                    sum += t * t / (w * w);
-                }
-                sum - 2.0 * lp
+            .map(|p| p.abs.partition_point(|&a| a > delta))
+            .collect();
+        let constant = paths
+            .iter()
+            .zip(&active)
+            .zip(self.m.iter().zip(&self.log_prior))
+            .map(|((p, &a), (mk, lp))| {
+                let squares = p.squares[a] - 2.0 * delta * p.sizes[a] + delta * delta * a as f64;
+                mk * mk * squares - 2.0 * lp
             })
-            .collect()
-    }
-
-    fn outcome(&self, delta: f64, queries: &[ArrayView2<'_, f64>]) -> Result<Outcome, LearnError> {
-        let shrunk = self.shrunk(delta);
-        let active = (0..self.xbar.len())
-            .filter(|&i| shrunk.iter().any(|dk| dk[i] != 0.0))
+            .collect();
+        let features = (0..self.xbar.len())
+            .filter(|&i| self.d.iter().any(|dk| dk[i].abs() > delta))
             .count();
-        let centroids = self.centroids(&shrunk);
-        let predictions = queries
-            .iter()
-            .map(|q| self.predict(&centroids, *q))
-            .collect::<Result<Vec<_>, _>>()?;
+        Terms {
+            delta,
+            active,
+            constant,
+            features,
+        }
+    }
+
+    fn note(&self, t: &Terms) -> Note {
         let mut remarks: Vec<String> = self.remark.iter().cloned().collect();
-        if active == 0 {
+        if t.features == 0 {
             remarks.push(format!(
-                "no feature is active at delta = {delta}; predictions follow the class priors"
+                "no feature is active at delta = {}; predictions follow the class priors",
+                t.delta
             ));
         }
-        let note = Note {
-            active_features: Some(active),
+        Note {
+            active_features: Some(t.features),
             remark: join_remarks(remarks),
             ..Note::default()
-        };
-        Ok(Outcome { predictions, note })
+        }
     }
 
+    /// Every candidate's predictions on `q` (`None` for a candidate whose
+    /// class score overflows). Per row the standardised `u_i` and each
+    /// class's prefix sums along its path are computed once; each candidate
+    /// then reads its score off in constant time per class.
     fn predict(
         &self,
-        centroids: &[Vec<f64>],
+        paths: &[Path],
+        terms: &[Terms],
         q: ArrayView2<'_, f64>,
-    ) -> Result<Predictions, LearnError> {
-        let mut labels = Vec::with_capacity(q.nrows());
-        let mut rows = Vec::with_capacity(q.nrows());
-        for row in q.rows() {
-            let scores = self.scores(centroids, row);
-            if scores.iter().any(|s| !s.is_finite()) {
-                return Err(data_error(
-                    NAME,
-                    "a class score overflows; scale the features",
-                ));
+    ) -> Vec<Option<Predictions>> {
+        let rows = q.nrows();
+        let mut sinks: Vec<Option<Sink>> = terms
+            .iter()
+            .map(|_| Some(Sink::new(rows, self.classes)))
+            .collect();
+        let mut u = vec![0.0; self.xbar.len()];
+        let mut prefix: Vec<Vec<(f64, f64)>> = paths
+            .iter()
+            .map(|p| vec![(0.0, 0.0); p.order.len() + 1])
+            .collect();
+        let (mut scores, mut halves) = (vec![None; self.classes], vec![None; self.classes]);
+        for (r, row) in q.rows().into_iter().enumerate() {
+            for (i, x) in row.iter().enumerate() {
+                u[i] = (x - self.xbar[i]) / (self.s[i] + self.s0);
             }
-            let mut by_class = vec![None; self.classes];
-            for (&(c, _), s) in self.present.iter().zip(&scores) {
-                by_class[c] = Some(*s);
+            for (path, sums) in paths.iter().zip(prefix.iter_mut()) {
+                path.prefix_sums(&u, sums);
             }
-            let best = argmin(&by_class).unwrap_or(self.present[0].0);
-            labels.push(best as u32);
-            let halves: Vec<Option<f64>> = by_class.iter().map(|s| s.map(|s| -s / 2.0)).collect();
-            rows.push(softmax(&halves));
+            for (t, sink) in terms.iter().zip(sinks.iter_mut()) {
+                let Some(out) = sink else { continue };
+                for (k, &(c, _)) in self.present.iter().enumerate() {
+                    let (along, signs) = prefix[k][t.active[k]];
+                    let score = t.constant[k] - 2.0 * self.m[k] * (along - t.delta * signs);
+                    scores[c] = Some(score);
+                    halves[c] = Some(-score / 2.0);
+                }
+                if !out.push(r, (&scores, &halves), self.present[0].0) {
+                    *sink = None;
+                }
+            }
         }
-        Ok(Predictions::Classes {
-            labels,
-            probabilities: probability_matrix(rows, self.classes),
-        })
+        sinks.into_iter().map(|s| s.map(Sink::finish)).collect()
+    }
+}
+
+/// One present class's features in order of decreasing `|d_ik|` (ties by
+/// feature index), so that the active features of any `delta` are a prefix
+/// of it, with the prefix sums that do not depend on the row.
+///
+/// Expanding the square, with `u_i = (x_i - xbar_i) / (s_i + s_0)` and the
+/// active features those with `|d_ik| > delta`:
+/// `score_k(x) = sum_i u_i^2 - 2 m_k sum_active u_i (d_ik - delta sign(d_ik))`
+/// `+ m_k^2 sum_active (|d_ik| - delta)^2 - 2 log pi_k`. The first sum is
+/// the same for every class, so it changes neither the winner nor the
+/// softmax and is left out.
+#[derive(Debug)]
+struct Path {
+    order: Vec<usize>,
+    /// `|d_ik|` along the order.
+    abs: Vec<f64>,
+    /// `d_ik` along the order.
+    d: Vec<f64>,
+    /// `sign(d_ik)` along the order.
+    sign: Vec<f64>,
+    /// `squares[a]`: the sum of `d_ik^2` over the first `a` features.
+    squares: Vec<f64>,
+    /// `sizes[a]`: the sum of `|d_ik|` over the first `a` features.
+    sizes: Vec<f64>,
+}
+
+impl Path {
+    fn new(dk: &[f64]) -> Path {
+        let mut order: Vec<usize> = (0..dk.len()).collect();
+        order.sort_by(|&a, &b| dk[b].abs().total_cmp(&dk[a].abs()).then(a.cmp(&b)));
+        let abs: Vec<f64> = order.iter().map(|&i| dk[i].abs()).collect();
+        let d: Vec<f64> = order.iter().map(|&i| dk[i]).collect();
+        let sign = d
+            .iter()
+            .map(|&v| if v < 0.0 { -1.0 } else { 1.0 })
+            .collect();
+        let running = |f: &dyn Fn(f64) -> f64| {
+            let mut sums = vec![0.0; abs.len() + 1];
+            for (j, &a) in abs.iter().enumerate() {
+                sums[j + 1] = sums[j] + f(a);
+            }
+            sums
+        };
+        let squares = running(&|a| a * a);
+        let sizes = running(&|a| a);
+        Path {
+            order,
+            abs,
+            d,
+            sign,
+            squares,
+            sizes,
+        }
+    }
+
+    /// `sums[a] = (sum of u_i d_ik, sum of u_i sign(d_ik))` over the first
+    /// `a` features of the path, added in path order.
+    fn prefix_sums(&self, u: &[f64], sums: &mut [(f64, f64)]) {
+        let (mut along, mut signs) = (0.0, 0.0);
+        for (j, &i) in self.order.iter().enumerate() {
+            along += u[i] * self.d[j];
+            signs += u[i] * self.sign[j];
+            sums[j + 1] = (along, signs);
+        }
+    }
+}
+
+/// What one `delta` needs beyond the row.
+#[derive(Debug)]
+struct Terms {
+    delta: f64,
+    /// Per present class, the number of active features of its path.
+    active: Vec<usize>,
+    /// Per present class, `m_k^2 sum_active (|d_ik| - delta)^2 - 2 log pi_k`.
+    constant: Vec<f64>,
+    /// Features active in some class.
+    features: usize,
+}
+
+/// One candidate's labels and probabilities on one query matrix, filled
+/// row by row.
+struct Sink {
+    classes: usize,
+    labels: Vec<u32>,
+    probabilities: Vec<f64>,
+}
+
+impl Sink {
+    fn new(rows: usize, classes: usize) -> Sink {
+        Sink {
+            classes,
+            labels: Vec::with_capacity(rows),
+            probabilities: vec![0.0; rows * classes],
+        }
+    }
+
+    /// Records row `r` from the class scores and their halved negatives
+    /// (`None` for absent classes): the smallest score wins, ties by class
+    /// order. False when a score is not finite.
+    fn push(
+        &mut self,
+        r: usize,
+        (scores, halves): (&[Option<f64>], &[Option<f64>]),
+        fallback: usize,
+    ) -> bool {
+        if scores.iter().flatten().any(|h| !h.is_finite()) {
+            return false;
+        }
+        let best = argmin(scores).unwrap_or(fallback);
+        self.labels.push(best as u32);
+        softmax_into(
+            halves,
+            &mut self.probabilities[r * self.classes..(r + 1) * self.classes],
+        );
+        true
+    }
+
+    fn finish(self) -> Predictions {
+        let rows = self.labels.len();
+        let probabilities = Array2::from_shape_vec((rows, self.classes), self.probabilities)
+            .unwrap_or_else(|_| Array2::zeros((rows, self.classes)));
+        Predictions::Classes {
+            labels: self.labels,
+            probabilities,
+        }
     }
 }
 
@@ -491,20 +666,34 @@ mod tests {
         // delta = 0.5: |d_2k| = 0.35 < 0.5 shrinks to 0; d'_1k = -/+ (0.8
         // sqrt(6) - 0.5). xbar'_1k = 4 -/+ 2.5 m (0.8 sqrt(6) - 0.5)
         // = 4 -/+ (2 - 1.25 / sqrt(6)); xbar'_2k = 4.5.
-        let shrunk = fit.shrunk(0.5);
-        assert!(
-            close(shrunk[0][0], -(0.8 * r6 - 0.5)) && shrunk[0][1] == 0.0 && shrunk[1][1] == 0.0
-        );
-        let c = fit.centroids(&shrunk);
+        let paths: Vec<Path> = fit.d.iter().map(|dk| Path::new(dk)).collect();
+        let t = fit.terms(&paths, 0.5);
+        assert_eq!((t.active.clone(), t.features), (vec![1, 1], 1));
+        assert_eq!(paths[0].order, vec![0, 1]);
         let off = 2.0 - 1.25 / r6;
-        assert!(close(c[0][0], 4.0 - off) && close(c[1][0], 4.0 + off));
-        assert_eq!((c[0][1], c[1][1]), (4.5, 4.5));
         // Query (3, 5): score_k = (3 - xbar'_1k)^2 / 2.5^2 + 0.5^2 / 3.5^2 + 2 ln 2.
-        let q = array![[3.0, 5.0]];
-        let scores = fit.scores(&c, q.row(0));
+        // The learner leaves out sum_i u_i^2 (common to both classes), so it
+        // is added back here: u = ((3 - 4) / 2.5, (5 - 4.5) / 3.5).
+        let u = [-1.0 / 2.5, 0.5 / 3.5];
+        let common = u[0] * u[0] + u[1] * u[1];
         let tail = 0.25 / 12.25 + 2.0 * 2f64.ln();
-        assert!(close(scores[0], (3.0 - 4.0 + off).powi(2) / 6.25 + tail));
-        assert!(close(scores[1], (3.0 - 4.0 - off).powi(2) / 6.25 + tail));
+        let want = [
+            (3.0 - 4.0 + off).powi(2) / 6.25 + tail,
+            (3.0 - 4.0 - off).powi(2) / 6.25 + tail,
+        ];
+        for (k, path) in paths.iter().enumerate() {
+            let mut sums = vec![(0.0, 0.0); 3];
+            path.prefix_sums(&u, &mut sums);
+            let (along, signs) = sums[t.active[k]];
+            let score = t.constant[k] - 2.0 * fit.m[k] * (along - 0.5 * signs);
+            assert!(
+                close(score + common, want[k]),
+                "class {k}: {} vs {}",
+                score + common,
+                want[k]
+            );
+        }
+        let q = array![[3.0, 5.0]];
         // The learner: class 0, one active feature, p_0 = 1 / (1 + exp(-(s1 - s0) / 2)).
         let (labels, p, note) = unpack(&run(&x, &y, &q, &[0.5])[0]);
         assert_eq!((labels, note.active_features), (vec![0], Some(1)));

@@ -126,43 +126,80 @@ pub fn score(
     truth: Targets<'_>,
     predictions: &Predictions,
 ) -> Result<f64, ScoreError> {
-    let undefined = |reason: String| ScoreError::Undefined {
-        metric: metric.name(),
-        reason,
-    };
-    let value = match (truth, predictions) {
+    let mut values = score_many(&[metric], truth, predictions);
+    values
+        .pop()
+        .unwrap_or_else(|| Err(undefined(metric, "no value was computed")))
+}
+
+/// Score `predictions` against `truth` with each of `metrics`, in order.
+/// The same values as [`score`] one metric at a time; the checks of the
+/// part and the per-class counts are done once for all of them.
+pub fn score_many(
+    metrics: &[Metric],
+    truth: Targets<'_>,
+    predictions: &Predictions,
+) -> Vec<Result<f64, ScoreError>> {
+    let part = match (truth, predictions) {
         (
             Targets::Classes(truth),
             Predictions::Classes {
                 labels,
                 probabilities,
             },
-        ) if CLASSIFICATION.contains(&metric) => {
-            let part = ClassScored::new(metric, truth, labels, probabilities.view())?;
-            part.score(metric)?
+        ) => Part::Classes(ClassScored::new(truth, labels, probabilities.view())),
+        (Targets::Values(truth), Predictions::Values(predicted)) => {
+            Part::Values(ValueScored::new(truth, predicted))
         }
-        (Targets::Values(truth), Predictions::Values(predicted))
-            if REGRESSION.contains(&metric) =>
-        {
-            score_values(metric, truth, predicted)?
-        }
-        _ => {
-            return Err(undefined(format!(
-                "{} needs {} truth and predictions of the same kind",
-                metric.name(),
-                if CLASSIFICATION.contains(&metric) {
-                    "class"
-                } else {
-                    "real-valued"
-                }
-            )));
-        }
+        _ => Part::Mismatch,
     };
+    metrics
+        .iter()
+        .map(|&m| {
+            let checked = |reason: &String| undefined(m, reason.clone());
+            let value = match &part {
+                Part::Classes(p) if CLASSIFICATION.contains(&m) => {
+                    p.as_ref().map_err(checked).and_then(|p| p.score(m))
+                }
+                Part::Values(p) if REGRESSION.contains(&m) => {
+                    p.as_ref().map_err(checked).and_then(|p| p.score(m))
+                }
+                _ => Err(kind_mismatch(m)),
+            };
+            value.and_then(|v| finite(m, v))
+        })
+        .collect()
+}
+
+/// A part checked once for all the metrics of one call.
+enum Part<'a> {
+    Classes(Result<ClassScored<'a>, String>),
+    Values(Result<ValueScored<'a>, String>),
+    Mismatch,
+}
+
+fn kind_mismatch(metric: Metric) -> ScoreError {
+    undefined(
+        metric,
+        format!(
+            "{} needs {} truth and predictions of the same kind",
+            metric.name(),
+            if CLASSIFICATION.contains(&metric) {
+                "class"
+            } else {
+                "real-valued"
+            }
+        ),
+    )
+}
+
+fn finite(metric: Metric, value: f64) -> Result<f64, ScoreError> {
     if value.is_finite() {
         Ok(value)
     } else {
         Err(undefined(
-            "the predictions give a value that is not finite".into(),
+            metric,
+            "the predictions give a value that is not finite",
         ))
     }
 }
@@ -175,44 +212,54 @@ fn undefined(metric: Metric, reason: impl Into<String>) -> ScoreError {
 }
 
 /// A classification part, checked: as many labels and probability rows as
-/// truth rows, at least one row, every code below the class count.
+/// truth rows, at least one row, every code below the class count. The
+/// per-class counts are computed once, on creation.
 struct ClassScored<'a> {
     truth: &'a [u32],
-    labels: &'a [u32],
     probabilities: ArrayView2<'a, f64>,
     classes: usize,
+    /// `(true positives, false positives, false negatives)` per class.
+    counts: Vec<(usize, usize, usize)>,
 }
 
 impl<'a> ClassScored<'a> {
+    /// The checked part, or why it cannot be scored.
     fn new(
-        metric: Metric,
         truth: &'a [u32],
         labels: &'a [u32],
         probabilities: ArrayView2<'a, f64>,
-    ) -> Result<ClassScored<'a>, ScoreError> {
-        let shape = |reason: String| undefined(metric, reason);
+    ) -> Result<ClassScored<'a>, String> {
         let n = truth.len();
         if labels.len() != n || probabilities.nrows() != n {
-            return Err(shape(format!(
+            return Err(format!(
                 "the truth has {n} rows but there are {} labels and {} probability rows",
                 labels.len(),
                 probabilities.nrows()
-            )));
+            ));
         }
         if n == 0 {
-            return Err(shape("the part has no rows".into()));
+            return Err("the part has no rows".into());
         }
         let classes = probabilities.ncols();
         if let Some(code) = truth.iter().chain(labels).find(|&&c| c as usize >= classes) {
-            return Err(shape(format!(
+            return Err(format!(
                 "class code {code} is outside the {classes} classes of the probabilities"
-            )));
+            ));
+        }
+        let mut counts = vec![(0, 0, 0); classes];
+        for (&t, &l) in truth.iter().zip(labels) {
+            if t == l {
+                counts[t as usize].0 += 1;
+            } else {
+                counts[l as usize].1 += 1;
+                counts[t as usize].2 += 1;
+            }
         }
         Ok(ClassScored {
             truth,
-            labels,
             probabilities,
             classes,
+            counts,
         })
     }
 
@@ -233,32 +280,13 @@ impl<'a> ClassScored<'a> {
     }
 
     fn accuracy(&self) -> f64 {
-        let correct = self
-            .truth
-            .iter()
-            .zip(self.labels)
-            .filter(|(t, l)| t == l)
-            .count();
+        let correct: usize = self.counts.iter().map(|&(tp, _, _)| tp).sum();
         correct as f64 / self.rows()
-    }
-
-    /// `(true positives, false positives, false negatives)` per class.
-    fn counts(&self) -> Vec<(usize, usize, usize)> {
-        let mut counts = vec![(0, 0, 0); self.classes];
-        for (&t, &l) in self.truth.iter().zip(self.labels) {
-            if t == l {
-                counts[t as usize].0 += 1;
-            } else {
-                counts[l as usize].1 += 1;
-                counts[t as usize].2 += 1;
-            }
-        }
-        counts
     }
 
     fn balanced_accuracy(&self) -> f64 {
         let recalls: Vec<f64> = self
-            .counts()
+            .counts
             .iter()
             .filter(|(tp, _, fn_)| tp + fn_ > 0)
             .map(|&(tp, _, fn_)| tp as f64 / (tp + fn_) as f64)
@@ -268,7 +296,7 @@ impl<'a> ClassScored<'a> {
 
     fn macro_f1(&self) -> f64 {
         let f1: Vec<f64> = self
-            .counts()
+            .counts
             .iter()
             .filter(|(tp, fp, fn_)| tp + fp + fn_ > 0)
             .map(|&(tp, fp, fn_)| (2 * tp) as f64 / (2 * tp + fp + fn_) as f64)
@@ -303,8 +331,10 @@ impl<'a> ClassScored<'a> {
     }
 
     fn roc_auc(&self) -> Result<f64, ScoreError> {
+        // A class is in the truth when it has a true positive or a false
+        // negative.
         let present: Vec<usize> = (0..self.classes)
-            .filter(|&c| self.truth.iter().any(|&t| t as usize == c))
+            .filter(|&c| self.counts[c].0 + self.counts[c].2 > 0)
             .collect();
         if present.len() < 2 {
             return Err(undefined(
@@ -313,9 +343,16 @@ impl<'a> ClassScored<'a> {
             ));
         }
         let one_vs_rest = |c: usize| {
-            let scores: Vec<f64> = self.probabilities.column(c).to_vec();
-            let positive: Vec<bool> = self.truth.iter().map(|&t| t as usize == c).collect();
-            mann_whitney_auc(&scores, &positive)
+            let mut positives = Vec::with_capacity(self.counts[c].0 + self.counts[c].2);
+            let mut negatives = Vec::with_capacity(self.truth.len());
+            for (&t, &p) in self.truth.iter().zip(self.probabilities.column(c)) {
+                if t as usize == c {
+                    positives.push(order_key(p));
+                } else {
+                    negatives.push(order_key(p));
+                }
+            }
+            mann_whitney_auc(positives, negatives)
         };
         if self.classes == 2 {
             return Ok(one_vs_rest(1));
@@ -325,73 +362,97 @@ impl<'a> ClassScored<'a> {
     }
 }
 
+/// A key whose unsigned order is the numeric order of the finite `x`, with
+/// `-0.0` and `0.0` the same key (so equal scores tie exactly as `==` says).
+fn order_key(x: f64) -> u64 {
+    let x = if x == 0.0 { 0.0 } else { x };
+    let bits = x.to_bits();
+    if bits >> 63 == 1 {
+        !bits
+    } else {
+        bits | (1 << 63)
+    }
+}
+
 /// The Mann-Whitney U of the positives divided by `n1 n0`: the probability
 /// that a random positive scores above a random negative, ties counting one
-/// half. Ranks are 1-based with midranks for tied scores; twice the rank sum
-/// is an integer, so everything up to the one division is exact. The
+/// half. Both key lists are sorted and walked once: each positive counts 2
+/// for every negative below it and 1 for every negative equal to it, so
+/// twice U is an integer and everything up to the one division is exact
+/// (the same value as the midrank form of the rank-sum statistic). The
 /// caller guarantees at least one positive and one negative.
-fn mann_whitney_auc(scores: &[f64], positive: &[bool]) -> f64 {
-    let n = scores.len();
-    let mut order: Vec<usize> = (0..n).collect();
-    order.sort_by(|&a, &b| scores[a].total_cmp(&scores[b]).then(a.cmp(&b)));
-    let mut twice_rank_sum: u128 = 0;
-    let mut i = 0;
-    while i < n {
-        let mut j = i;
-        while j + 1 < n && scores[order[j + 1]] == scores[order[i]] {
-            j += 1;
+fn mann_whitney_auc(mut positives: Vec<u64>, mut negatives: Vec<u64>) -> f64 {
+    positives.sort_unstable();
+    negatives.sort_unstable();
+    let (mut below, mut equal_end) = (0usize, 0usize);
+    let mut twice_u: u128 = 0;
+    for &p in &positives {
+        while below < negatives.len() && negatives[below] < p {
+            below += 1;
         }
-        // Positions i..=j share the midrank ((i + 1) + (j + 1)) / 2.
-        let positives = order[i..=j].iter().filter(|&&r| positive[r]).count() as u128;
-        twice_rank_sum += positives * (i + j + 2) as u128;
-        i = j + 1;
+        equal_end = equal_end.max(below);
+        while equal_end < negatives.len() && negatives[equal_end] == p {
+            equal_end += 1;
+        }
+        twice_u += (2 * below + (equal_end - below)) as u128;
     }
-    let n1 = positive.iter().filter(|&&p| p).count() as u128;
-    let n0 = n as u128 - n1;
-    let twice_u = twice_rank_sum - n1 * (n1 + 1);
+    let (n1, n0) = (positives.len() as u128, negatives.len() as u128);
     twice_u as f64 / (2 * n1 * n0) as f64
 }
 
-fn score_values(metric: Metric, truth: &[f64], predicted: &[f64]) -> Result<f64, ScoreError> {
-    let n = truth.len();
-    if predicted.len() != n {
-        return Err(undefined(
-            metric,
-            format!(
+/// A real-valued part, checked (as many predictions as truth rows, at least
+/// one row), with its residual sums taken in one pass in row order.
+struct ValueScored<'a> {
+    truth: &'a [f64],
+    squared: f64,
+    absolute: f64,
+}
+
+impl<'a> ValueScored<'a> {
+    /// The checked part, or why it cannot be scored.
+    fn new(truth: &'a [f64], predicted: &[f64]) -> Result<ValueScored<'a>, String> {
+        let n = truth.len();
+        if predicted.len() != n {
+            return Err(format!(
                 "the truth has {n} rows but there are {} predictions",
                 predicted.len()
-            ),
-        ));
-    }
-    if n == 0 {
-        return Err(undefined(metric, "the part has no rows"));
-    }
-    let rows = n as f64;
-    let squared: f64 = truth
-        .iter()
-        .zip(predicted)
-        .map(|(t, p)| (t - p) * (t - p))
-        .sum();
-    match metric {
-        Metric::Rmse => Ok((squared / rows).sqrt()),
-        Metric::Mae => Ok(truth
-            .iter()
-            .zip(predicted)
-            .map(|(t, p)| (t - p).abs())
-            .sum::<f64>()
-            / rows),
-        Metric::R2 => {
-            if truth.iter().all(|&t| t == truth[0]) {
-                return Err(undefined(
-                    metric,
-                    "the truth is constant, so there is no variance to explain",
-                ));
-            }
-            let mean = truth.iter().sum::<f64>() / rows;
-            let total: f64 = truth.iter().map(|t| (t - mean) * (t - mean)).sum();
-            Ok(1.0 - squared / total)
+            ));
         }
-        _ => Err(undefined(metric, "not a regression metric")),
+        if n == 0 {
+            return Err("the part has no rows".into());
+        }
+        let (mut squared, mut absolute) = (0.0, 0.0);
+        for (t, p) in truth.iter().zip(predicted) {
+            let r = t - p;
+            squared += r * r;
+            absolute += r.abs();
+        }
+        Ok(ValueScored {
+            truth,
+            squared,
+            absolute,
+        })
+    }
+
+    fn score(&self, metric: Metric) -> Result<f64, ScoreError> {
+        let rows = self.truth.len() as f64;
+        match metric {
+            Metric::Rmse => Ok((self.squared / rows).sqrt()),
+            Metric::Mae => Ok(self.absolute / rows),
+            Metric::R2 => {
+                let truth = self.truth;
+                if truth.iter().all(|&t| t == truth[0]) {
+                    return Err(undefined(
+                        metric,
+                        "the truth is constant, so there is no variance to explain",
+                    ));
+                }
+                let mean = truth.iter().sum::<f64>() / rows;
+                let total: f64 = truth.iter().map(|t| (t - mean) * (t - mean)).sum();
+                Ok(1.0 - self.squared / total)
+            }
+            _ => Err(undefined(metric, "not a regression metric")),
+        }
     }
 }
 
@@ -522,6 +583,34 @@ mod tests {
             ),
             Ok(0.5)
         );
+    }
+
+    proptest::proptest! {
+        /// The definition itself (common practice): over every
+        /// (positive, negative) pair, 1 when the positive scores higher and
+        /// 1/2 when they tie, divided by `n1 n0`. Scores come from a few
+        /// values (many ties) and include both signs of zero, which tie.
+        #[test]
+        fn roc_auc_is_the_pair_count(
+            rows in proptest::collection::vec((0usize..7, proptest::bool::ANY), 2..60)
+        ) {
+            const VALUES: [f64; 7] = [-0.0, 0.0, 0.25, 0.5, 0.5, 0.75, 1.0];
+            let scores: Vec<f64> = rows.iter().map(|&(v, _)| VALUES[v]).collect();
+            let truth: Vec<u32> = rows.iter().map(|&(_, p)| u32::from(p)).collect();
+            let (n1, n0) = (truth.iter().filter(|&&t| t == 1).count(), truth.iter().filter(|&&t| t == 0).count());
+            proptest::prop_assume!(n1 > 0 && n0 > 0);
+            let mut twice = 0u64;
+            for (i, &ti) in truth.iter().enumerate() {
+                for (j, &tj) in truth.iter().enumerate() {
+                    if ti == 1 && tj == 0 {
+                        twice += if scores[i] > scores[j] { 2 } else if scores[i] == scores[j] { 1 } else { 0 };
+                    }
+                }
+            }
+            let want = twice as f64 / (2 * n1 * n0) as f64;
+            let got = score(Metric::RocAuc, Targets::Classes(&truth), &binary(&scores)).unwrap();
+            proptest::prop_assert_eq!(got, want);
+        }
     }
 
     #[test]

@@ -2,4 +2,4 @@
 
 mod metric;
 
-pub use metric::{Metric, ScoreError, score};
+pub use metric::{Metric, ScoreError, score, score_many};

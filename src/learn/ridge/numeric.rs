@@ -76,15 +76,35 @@ impl Svd {
     /// `sum_i v_i * f(s_i) * (u_i . b)` over components above the tolerance,
     /// in component order; `b` has `n` entries, the result `p`.
     pub fn apply(&self, b: &[f64], f: impl Fn(f64) -> f64) -> Vec<f64> {
+        self.apply_projected(&self.project(b), f)
+    }
+
+    /// `u_i . b` for every component (0 for those at or below the
+    /// tolerance), each summed in row order: the part of [`Svd::apply`]
+    /// that does not depend on `f`.
+    pub fn project(&self, b: &[f64]) -> Vec<f64> {
+        self.s
+            .iter()
+            .enumerate()
+            .map(|(i, &s)| {
+                let mut ub = 0.0;
+                if s > self.tol {
+                    for (r, &bv) in b.iter().enumerate() {
+                        ub += self.u[(r, i)] * bv;
+                    }
+                }
+                ub
+            })
+            .collect()
+    }
+
+    /// [`Svd::apply`] from the projections [`Svd::project`] gave.
+    pub fn apply_projected(&self, projected: &[f64], f: impl Fn(f64) -> f64) -> Vec<f64> {
         let p = self.v_t.ncols();
         let mut out = vec![0.0; p];
-        for (i, &s) in self.s.iter().enumerate() {
+        for (i, (&s, &ub)) in self.s.iter().zip(projected).enumerate() {
             if s <= self.tol {
                 continue;
-            }
-            let mut ub = 0.0;
-            for (r, &bv) in b.iter().enumerate() {
-                ub += self.u[(r, i)] * bv;
             }
             let w = f(s) * ub;
             for (j, o) in out.iter_mut().enumerate() {
@@ -129,19 +149,6 @@ pub(in crate::learn) fn column_scales(x: ArrayView2<'_, f64>, means: &[f64]) -> 
             (ss / (n - 1) as f64).sqrt()
         })
         .collect()
-}
-
-/// `sum_j (row_j - centre_j) * coef_j`, in feature order.
-pub(in crate::learn) fn centred_dot(
-    row: ndarray::ArrayView1<'_, f64>,
-    centre: &[f64],
-    coef: &[f64],
-) -> f64 {
-    let mut acc = 0.0;
-    for ((&x, &c), &b) in row.iter().zip(centre).zip(coef) {
-        acc += (x - c) * b;
-    }
-    acc
 }
 
 /// Check what every learner here needs: at least one training row, as many
