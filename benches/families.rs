@@ -8,6 +8,10 @@
 //! 8,000 training rows and 2,000 validation rows. Targets (BENCHMARKS.md):
 //! 16 k at most 1.3x one, 17 delta at most 1.3x one, 10 ridge penalties at
 //! most 1.5x one, depths 1..10 at most 1.5x depth 10 alone.
+//!
+//! `*-wide`: the shrunken-centroid and ridge grids again on 2,000 rows of
+//! 500 features (1,600 training rows, 400 validation), where the shared fit
+//! is most of the work.
 
 mod common;
 
@@ -20,7 +24,7 @@ use common::{Bed, candidates_of, classification_plan, compiled, evaluate_on_firs
 
 /// (group name, learner, plan blocks, task is regression, which candidates
 /// are timed alone: indices into the family).
-const FAMILIES: &[(&str, &str, &str, bool, &[usize])] = &[
+const FAMILIES: &[Family<'_>] = &[
     (
         "nearest-neighbors-16-k",
         "nearest-neighbors",
@@ -59,11 +63,42 @@ const FAMILIES: &[(&str, &str, &str, bool, &[usize])] = &[
     ),
 ];
 
+/// The same grids on a wide shape, where the learner's shared work (the
+/// fit over many features) outweighs predicting and scoring each candidate's
+/// rows: 2,000 rows, 500 features (3 of them carry the class), the shape of
+/// the expression data nearest shrunken centroids were made for.
+const WIDE: &[Family<'_>] = &[
+    (
+        "shrunken-centroid-17-delta-wide",
+        "shrunken-centroid",
+        "[[candidates]]\nlearner = \"shrunken-centroid\"\ndelta = { from = 0.0, to = 4.0, steps = 17 }\n",
+        false,
+        &[8],
+    ),
+    (
+        "ridge-10-lambda-wide",
+        "ridge",
+        "[[candidates]]\nlearner = \"ridge\"\nlambda = { from = 0.001, to = 1000.0, steps = 10, scale = \"log\" }\n",
+        true,
+        &[5],
+    ),
+];
+
 fn families(c: &mut Criterion) {
-    let bed = Bed::new(10_000, 5, 100);
-    for &(name, learner, blocks, regression, alone) in FAMILIES {
+    family_groups(c, &Bed::new(10_000, 5, 100), 5, FAMILIES);
+    family_groups(c, &Bed::new(2_000, 500, 100), 500, WIDE);
+}
+
+type Family<'a> = (&'a str, &'a str, &'a str, bool, &'a [usize]);
+
+/// One criterion group per family: the whole grid, then the chosen
+/// candidates alone.
+fn family_groups(c: &mut Criterion, bed: &Bed, features: usize, table: &[Family<'_>]) {
+    for &(name, learner, blocks, regression, alone) in table {
         let text = if regression {
-            common::regression_plan(5, blocks)
+            // The generator pads feature names to the width of the count.
+            let first = format!("\"f{:0w$}\"", 1, w = features.to_string().len().max(2));
+            common::regression_plan(5, blocks).replace("\"f01\"", &first)
         } else {
             classification_plan(5, 1, blocks)
         };
