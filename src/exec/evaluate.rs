@@ -14,7 +14,7 @@ use rayon::prelude::*;
 use crate::data::{Dataset, Target};
 use crate::learn::{self, Note, Predictions, Settings, Targets, Task, TrainPart};
 use crate::prep::{PrepSpec, Transform};
-use crate::score::{self, Metric};
+use crate::score::{self, Metric, Truth};
 
 /// What one evaluation needs.
 pub struct FitInput<'a> {
@@ -77,13 +77,16 @@ impl OwnedTargets {
 
 fn score_all(
     task: Task,
-    truth: Targets<'_>,
+    truth: &Truth<'_>,
     pred: &Predictions,
     into: &mut BTreeMap<String, f64>,
     undefined: &mut BTreeMap<String, String>,
 ) {
     let metrics = Metric::for_task(task);
-    for (&m, value) in metrics.iter().zip(score::score_many(metrics, truth, pred)) {
+    for (&m, value) in metrics
+        .iter()
+        .zip(score::score_against(metrics, truth, pred))
+    {
         match value {
             Ok(v) if v.is_finite() => {
                 into.insert(m.name().to_string(), v);
@@ -174,49 +177,35 @@ fn family_scores(
     };
     let family: Vec<Settings> = members.iter().map(|&i| candidates[i].1.clone()).collect();
     let outcomes = learner.evaluate_family(input.task, part, queries, &family);
+    let truths = (Truth::new(eval_y.view()), Truth::new(train_y.view()));
     members
         .into_par_iter()
         .zip(outcomes)
         .map(|(i, outcome)| {
             let s = match outcome {
                 Err(e) => failed(e.to_string()),
-                Ok(o) => scored(input, eval_y, train_y, o),
+                Ok(o) => scored(input.task, &truths, o),
             };
             (i, s)
         })
         .collect()
 }
 
-fn scored(
-    input: &FitInput<'_>,
-    eval_y: &OwnedTargets,
-    train_y: &OwnedTargets,
-    o: learn::Outcome,
-) -> Scored {
+/// A candidate's outcome scored on the evaluation part and, when it
+/// predicted it, the training part.
+fn scored(task: Task, (eval_y, train_y): &(Truth<'_>, Truth<'_>), o: learn::Outcome) -> Scored {
     let mut s = Scored {
         note: o.note,
         ..Scored::default()
     };
     let mut preds = o.predictions.into_iter();
     if let Some(p) = preds.next() {
-        score_all(
-            input.task,
-            eval_y.view(),
-            &p,
-            &mut s.scores,
-            &mut s.undefined,
-        );
+        score_all(task, eval_y, &p, &mut s.scores, &mut s.undefined);
         s.predictions = Some(p);
     }
     if let Some(p) = preds.next() {
         let mut ignored = BTreeMap::new();
-        score_all(
-            input.task,
-            train_y.view(),
-            &p,
-            &mut s.training,
-            &mut ignored,
-        );
+        score_all(task, train_y, &p, &mut s.training, &mut ignored);
     }
     s
 }

@@ -140,7 +140,39 @@ pub fn score_many(
     truth: Targets<'_>,
     predictions: &Predictions,
 ) -> Vec<Result<f64, ScoreError>> {
-    let part = match (truth, predictions) {
+    score_against(metrics, &Truth::new(truth), predictions)
+}
+
+/// The truth of one part with what every scoring of it shares (for real
+/// values: whether it is constant, and its sum of squares about its mean,
+/// both in row order), so that many candidates scored on one part compute
+/// them once.
+pub struct Truth<'a> {
+    targets: Targets<'a>,
+    /// `None` for class truth or a constant real-valued truth.
+    spread: Option<f64>,
+}
+
+impl<'a> Truth<'a> {
+    pub fn new(targets: Targets<'a>) -> Truth<'a> {
+        let spread = match targets {
+            Targets::Values(truth) if !truth.iter().all(|&t| t == truth[0]) => {
+                let mean = truth.iter().sum::<f64>() / truth.len() as f64;
+                Some(truth.iter().map(|t| (t - mean) * (t - mean)).sum())
+            }
+            _ => None,
+        };
+        Truth { targets, spread }
+    }
+}
+
+/// [`score_many`] against a [`Truth`] prepared once for many predictions.
+pub fn score_against(
+    metrics: &[Metric],
+    truth: &Truth<'_>,
+    predictions: &Predictions,
+) -> Vec<Result<f64, ScoreError>> {
+    let part = match (truth.targets, predictions) {
         (
             Targets::Classes(truth),
             Predictions::Classes {
@@ -148,8 +180,8 @@ pub fn score_many(
                 probabilities,
             },
         ) => Part::Classes(ClassScored::new(truth, labels, probabilities.view())),
-        (Targets::Values(truth), Predictions::Values(predicted)) => {
-            Part::Values(ValueScored::new(truth, predicted))
+        (Targets::Values(values), Predictions::Values(predicted)) => {
+            Part::Values(ValueScored::new(values, truth.spread, predicted))
         }
         _ => Part::Mismatch,
     };
@@ -404,13 +436,19 @@ fn mann_whitney_auc(mut positives: Vec<u64>, mut negatives: Vec<u64>) -> f64 {
 /// one row), with its residual sums taken in one pass in row order.
 struct ValueScored<'a> {
     truth: &'a [f64],
+    /// The truth's sum of squares about its mean (`None`: constant).
+    spread: Option<f64>,
     squared: f64,
     absolute: f64,
 }
 
 impl<'a> ValueScored<'a> {
     /// The checked part, or why it cannot be scored.
-    fn new(truth: &'a [f64], predicted: &[f64]) -> Result<ValueScored<'a>, String> {
+    fn new(
+        truth: &'a [f64],
+        spread: Option<f64>,
+        predicted: &[f64],
+    ) -> Result<ValueScored<'a>, String> {
         let n = truth.len();
         if predicted.len() != n {
             return Err(format!(
@@ -429,6 +467,7 @@ impl<'a> ValueScored<'a> {
         }
         Ok(ValueScored {
             truth,
+            spread,
             squared,
             absolute,
         })
@@ -439,18 +478,13 @@ impl<'a> ValueScored<'a> {
         match metric {
             Metric::Rmse => Ok((self.squared / rows).sqrt()),
             Metric::Mae => Ok(self.absolute / rows),
-            Metric::R2 => {
-                let truth = self.truth;
-                if truth.iter().all(|&t| t == truth[0]) {
-                    return Err(undefined(
-                        metric,
-                        "the truth is constant, so there is no variance to explain",
-                    ));
-                }
-                let mean = truth.iter().sum::<f64>() / rows;
-                let total: f64 = truth.iter().map(|t| (t - mean) * (t - mean)).sum();
-                Ok(1.0 - self.squared / total)
-            }
+            Metric::R2 => match self.spread {
+                None => Err(undefined(
+                    metric,
+                    "the truth is constant, so there is no variance to explain",
+                )),
+                Some(total) => Ok(1.0 - self.squared / total),
+            },
             _ => Err(undefined(metric, "not a regression metric")),
         }
     }

@@ -2,4 +2,4 @@
 
 mod metric;
 
-pub use metric::{Metric, ScoreError, score, score_many};
+pub use metric::{Metric, ScoreError, Truth, score, score_against, score_many};
