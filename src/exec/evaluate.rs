@@ -46,8 +46,26 @@ pub struct Scored {
 }
 
 fn rows_of(data: &Dataset, rows: &[u32]) -> Array2<f64> {
+    gather(data.features.view(), rows)
+}
+
+/// The rows `rows` of `features` (indices may repeat), in that order:
+/// copied row slice by row slice when the matrix is in row-major order,
+/// through `select` otherwise.
+fn gather(features: ArrayView2<'_, f64>, rows: &[u32]) -> Array2<f64> {
+    let p = features.ncols();
+    if let Some(all) = features.to_slice() {
+        let mut out = Vec::with_capacity(rows.len() * p);
+        for &r in rows {
+            let start = r as usize * p;
+            out.extend_from_slice(&all[start..start + p]);
+        }
+        if let Ok(m) = Array2::from_shape_vec((rows.len(), p), out) {
+            return m;
+        }
+    }
     let idx: Vec<usize> = rows.iter().map(|&r| r as usize).collect();
-    data.features.select(Axis(0), &idx)
+    features.select(Axis(0), &idx)
 }
 
 /// Targets of `rows`, owned.
@@ -208,4 +226,26 @@ fn scored(task: Task, (eval_y, train_y): &(Truth<'_>, Truth<'_>), o: learn::Outc
         score_all(task, train_y, &p, &mut s.training, &mut ignored);
     }
     s
+}
+
+#[cfg(test)]
+mod tests {
+    use ndarray::Array2;
+
+    use super::*;
+
+    #[test]
+    fn gather_equals_select_in_either_memory_order() {
+        let rows = [3u32, 0, 3, 1];
+        let idx: Vec<usize> = rows.iter().map(|&r| r as usize).collect();
+        let standard = Array2::from_shape_fn((4, 3), |(r, c)| (10 * r + c) as f64);
+        let transposed = standard.t().to_owned();
+        let column_major = transposed.t();
+        for m in [standard.view(), column_major] {
+            assert_eq!(gather(m, &rows), m.select(Axis(0), &idx));
+        }
+        assert_eq!(gather(standard.view(), &[]).dim(), (0, 3));
+        let empty = Array2::<f64>::zeros((2, 0));
+        assert_eq!(gather(empty.view(), &[1, 0]).dim(), (2, 0));
+    }
 }
