@@ -222,6 +222,14 @@ pub fn replay(spec: &str, flag: Option<&Path>, json: bool) -> Result<(), CliErro
                     d.path, d.recorded, d.recomputed
                 ));
             }
+            if report.recorded_by != report.replayed_by {
+                out(&format!(
+                    "the entry was recorded by holdfast {} and replayed by holdfast {}: a release \
+                     that changes how a learner or metric computes gives other last digits, so \
+                     replay with holdfast {} to compare",
+                    report.recorded_by, report.replayed_by, report.recorded_by
+                ));
+            }
         }
     }
     if report.identical {

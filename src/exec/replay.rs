@@ -25,6 +25,10 @@ pub struct ReplayReport {
     pub identical: bool,
     pub recorded_hash: String,
     pub recomputed_hash: String,
+    /// The holdfast version that recorded the entry.
+    pub recorded_by: String,
+    /// The holdfast version that replayed it.
+    pub replayed_by: String,
     /// The first difference: a JSON path and the two values.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub first_difference: Option<Difference>,
@@ -200,6 +204,8 @@ pub fn replay(ledger: &Ledger, spec: &str) -> Result<ReplayReport, ReplayError> 
         kind: entry.kind,
         identical,
         recorded_hash: entry.result_hash.clone(),
+        recorded_by: entry.provenance.tool_version.clone(),
+        replayed_by: env!("CARGO_PKG_VERSION").to_string(),
         first_difference: if identical {
             None
         } else {

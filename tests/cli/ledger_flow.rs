@@ -326,6 +326,11 @@ fn replay_reproduces_selections_and_openings_and_refuses_changed_data() {
     let opening = ok(&fx, &["replay", "2"]);
     assert!(opening.lines().any(|l| l == "identical"), "{opening}");
     assert!(opening.contains("not a new opening"), "{opening}");
+    // The JSON twin names the version that recorded and the one that replayed.
+    let report = json(&ok(&fx, &["replay", "1", "--json"]));
+    assert_eq!(report["identical"], true);
+    assert_eq!(report["recorded_by"], env!("CARGO_PKG_VERSION"));
+    assert_eq!(report["replayed_by"], env!("CARGO_PKG_VERSION"));
     let audit = json(&ok(&fx, &["audit", "--json"]));
     assert_eq!(
         audit["partitions"][0]["openings"].as_array().map(Vec::len),
