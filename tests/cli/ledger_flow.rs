@@ -7,34 +7,18 @@ use serde_json::Value;
 
 use crate::support::{Fixture, PENGUINS_PLAN, run};
 
-/// A penguins plan with two learners, run quickly.
-pub const PLAN: &str = r#"
-[plan]
-name = "penguins-ledger"
-seed = 5
-
-[data]
-path = "penguins.csv"
-target = "species"
-features = ["bill_*", "flipper_length_mm", "body_mass_g"]
-
-[prep]
-impute = "mean"
-
-[resample]
-folds = 5
-
-[[candidates]]
-learner = "nearest-neighbors"
-k = [1, 3, 7]
-
-[[candidates]]
-learner = "tree"
-depth = [1, 3]
-
-[select]
-metric = "accuracy"
-"#;
+/// The shared penguins plan with a second learner and accuracy as the
+/// metric, run quickly.
+pub fn plan() -> String {
+    let head = PENGUINS_PLAN
+        .replace(
+            "name = \"penguins\"\nseed = 11",
+            "name = \"penguins-ledger\"\nseed = 5",
+        )
+        .replace("k = [1, 5, 9]", "k = [1, 3, 7]");
+    assert!(head.contains("seed = 5") && head.contains("k = [1, 3, 7]"));
+    head + "\n[[candidates]]\nlearner = \"tree\"\ndepth = [1, 3]\n\n[select]\nmetric = \"accuracy\"\n"
+}
 
 fn json(text: &str) -> Value {
     serde_json::from_str(text).unwrap_or_else(|e| panic!("not JSON ({e}): {text}"))
@@ -49,7 +33,7 @@ fn ok(fx: &Fixture, args: &[&str]) -> String {
 #[test]
 fn run_records_a_selection_that_show_prints_the_same() {
     let fx = Fixture::new();
-    fx.write("plan.toml", PLAN);
+    fx.write("plan.toml", &plan());
     let ran = json(&ok(&fx, &["run", "plan.toml", "--json"]));
     assert_eq!(ran["kind"], "selection");
     assert!(ran["result_hash"].as_str().is_some_and(|h| h.len() == 64));
@@ -106,7 +90,7 @@ fn sealed_rows_never_reach_a_learner() {
     // folds stay put): if any sealed row reached a learner or a fitted
     // transform, some validation score would move.
     let fx = Fixture::new();
-    fx.write("plan.toml", PLAN);
+    fx.write("plan.toml", &plan());
     let clean = json(&ok(&fx, &["run", "plan.toml", "--json"]));
     let sheet_path = fx.path("sheet.json");
     ok(
@@ -155,7 +139,7 @@ fn sealed_rows_never_reach_a_learner() {
 #[test]
 fn openings_are_counted_and_refused_without_again() {
     let fx = Fixture::new();
-    fx.write("plan.toml", PLAN);
+    fx.write("plan.toml", &plan());
     let (code, _, stderr) = run(fx
         .cmd()
         .args(["unseal", "plan.toml", "--reason", "too early"]));
@@ -265,7 +249,7 @@ fn sealed_rows(fx: &Fixture, plan: &str) -> Vec<u64> {
 #[test]
 fn reshuffled_data_and_a_new_seed_warn_with_the_exact_overlap() {
     let fx = Fixture::new();
-    fx.write("plan.toml", PLAN);
+    fx.write("plan.toml", &plan());
     ok(&fx, &["run", "plan.toml"]);
     ok(&fx, &["unseal", "plan.toml", "--reason", "first look"]);
     let original = std::fs::read_to_string(fx.path("penguins.csv")).expect("data");
@@ -275,7 +259,7 @@ fn reshuffled_data_and_a_new_seed_warn_with_the_exact_overlap() {
     let header = lines.remove(0);
     lines.reverse();
     fx.write("shuffled.csv", &format!("{header}\n{}\n", lines.join("\n")));
-    let plan2 = PLAN
+    let plan2 = plan()
         .replace("penguins.csv", "shuffled.csv")
         .replace("seed = 5", "seed = 6");
     fx.write("plan2.toml", &plan2);
@@ -318,7 +302,7 @@ fn reshuffled_data_and_a_new_seed_warn_with_the_exact_overlap() {
 #[test]
 fn replay_reproduces_selections_and_openings_and_refuses_changed_data() {
     let fx = Fixture::new();
-    fx.write("plan.toml", PLAN);
+    fx.write("plan.toml", &plan());
     ok(&fx, &["run", "plan.toml"]);
     ok(&fx, &["unseal", "plan.toml", "--reason", "look"]);
     let sel = ok(&fx, &["replay", "1"]);
@@ -347,7 +331,7 @@ fn replay_reproduces_selections_and_openings_and_refuses_changed_data() {
 #[test]
 fn bad_ledgers_get_a_clear_message_and_stay_unchanged() {
     let fx = Fixture::new();
-    fx.write("plan.toml", PLAN);
+    fx.write("plan.toml", &plan());
     // Not SQLite.
     let fake = fx.write("fake.sqlite", "species,island\nAdelie,Dream\n");
     let before = std::fs::read(&fake).expect("read");
@@ -398,8 +382,8 @@ fn bad_ledgers_get_a_clear_message_and_stay_unchanged() {
 #[test]
 fn two_concurrent_runs_both_land_and_the_chain_verifies() {
     let fx = Fixture::new();
-    fx.write("plan.toml", PLAN);
-    fx.write("plan2.toml", &PLAN.replace("seed = 5", "seed = 9"));
+    fx.write("plan.toml", &plan());
+    fx.write("plan2.toml", &plan().replace("seed = 5", "seed = 9"));
     let spawn = |plan: &str| {
         std::process::Command::new(assert_cmd::cargo::cargo_bin("holdfast"))
             .current_dir(fx.dir.path())

@@ -12,7 +12,7 @@ fn ok(fx: &Fixture, args: &[&str]) -> String {
 /// A ledger with two selections and one opening.
 fn ledger() -> Fixture {
     let fx = Fixture::new();
-    fx.write("plan.toml", super::ledger_flow::PLAN);
+    fx.write("plan.toml", &super::ledger_flow::plan());
     ok(&fx, &["run", "plan.toml"]);
     ok(&fx, &["unseal", "plan.toml", "--reason", "look"]);
     ok(&fx, &["run", "plan.toml"]);
