@@ -18,7 +18,7 @@ mod common;
 use std::hint::black_box;
 use std::time::Duration;
 
-use criterion::{Criterion, criterion_group, criterion_main};
+use criterion::{Criterion, criterion_group};
 
 use common::{Bed, candidates_of, classification_plan, compiled, evaluate_on_first_split};
 
@@ -91,17 +91,22 @@ fn families(c: &mut Criterion) {
 
 type Family<'a> = (&'a str, &'a str, &'a str, bool, &'a [usize]);
 
+/// The plan of a family's bench: grouped 5-fold over the bench data.
+fn plan_text(blocks: &str, regression: bool, features: usize) -> String {
+    if regression {
+        // The generator pads feature names to the width of the count.
+        let first = format!("\"f{:0w$}\"", 1, w = features.to_string().len().max(2));
+        common::regression_plan(5, blocks).replace("\"f01\"", &first)
+    } else {
+        classification_plan(5, 1, blocks)
+    }
+}
+
 /// One criterion group per family: the whole grid, then the chosen
 /// candidates alone.
 fn family_groups(c: &mut Criterion, bed: &Bed, features: usize, table: &[Family<'_>]) {
     for &(name, learner, blocks, regression, alone) in table {
-        let text = if regression {
-            // The generator pads feature names to the width of the count.
-            let first = format!("\"f{:0w$}\"", 1, w = features.to_string().len().max(2));
-            common::regression_plan(5, blocks).replace("\"f01\"", &first)
-        } else {
-            classification_plan(5, 1, blocks)
-        };
+        let text = plan_text(blocks, regression, features);
         let (r, sheet) = compiled(&bed.plan(&format!("{name}.toml"), &text));
         let family = candidates_of(&sheet, learner);
         let mut group = c.benchmark_group(format!("family/{name}"));
@@ -127,4 +132,58 @@ fn family_groups(c: &mut Criterion, bed: &Bed, features: usize, table: &[Family<
 }
 
 criterion_group!(benches, families);
-criterion_main!(benches);
+
+/// `HOLDFAST_RATIOS=1 cargo bench --bench families`: instead of criterion,
+/// time each grid and its candidates alone in alternation (grid, then each
+/// candidate, round after round), so that a change in the machine's load
+/// reaches both sides of a ratio alike; prints per family the fastest
+/// round of each side and their ratio.
+fn ratios() {
+    const ROUNDS: usize = 40;
+    for (bed, features, table) in [
+        (Bed::new(10_000, 5, 100), 5, FAMILIES),
+        (Bed::new(2_000, 500, 100), 500, WIDE),
+    ] {
+        for &(name, learner, blocks, regression, alone) in table {
+            let (r, sheet) = compiled(&bed.plan(
+                &format!("{name}.toml"),
+                &plan_text(blocks, regression, features),
+            ));
+            let family = candidates_of(&sheet, learner);
+            let ones: Vec<[(&str, &holdfast::learn::Settings); 1]> =
+                alone.iter().map(|&i| [family[i]]).collect();
+            let mut best_all = Duration::MAX;
+            let mut best_one = vec![Duration::MAX; ones.len()];
+            for _ in 0..ROUNDS {
+                best_all = best_all.min(timed(|| evaluate_on_first_split(&r, &sheet, &family)));
+                for (best, one) in best_one.iter_mut().zip(&ones) {
+                    *best = (*best).min(timed(|| evaluate_on_first_split(&r, &sheet, one)));
+                }
+            }
+            for (&i, one) in alone.iter().zip(&best_one) {
+                println!(
+                    "{name}: all-{} {:.3} ms, candidate {i} alone {:.3} ms, ratio {:.2}x (fastest of {ROUNDS} alternating rounds)",
+                    family.len(),
+                    best_all.as_secs_f64() * 1e3,
+                    one.as_secs_f64() * 1e3,
+                    best_all.as_secs_f64() / one.as_secs_f64()
+                );
+            }
+        }
+    }
+}
+
+fn timed(f: impl FnOnce() -> usize) -> Duration {
+    let start = std::time::Instant::now();
+    black_box(f());
+    start.elapsed()
+}
+
+fn main() {
+    if std::env::var_os("HOLDFAST_RATIOS").is_some() {
+        ratios();
+        return;
+    }
+    benches();
+    Criterion::default().configure_from_args().final_summary();
+}
