@@ -21,6 +21,7 @@ mod jobs;
 mod ledger;
 mod location;
 mod provenance;
+mod read_ahead;
 mod row_exposure;
 mod schema;
 mod spec;

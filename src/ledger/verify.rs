@@ -13,7 +13,8 @@
 //! re-hashed and a mismatch is a problem of its own kind.
 //!
 //! The walk reads each table once, in order: the entries with their bodies,
-//! and the exposure table beside them (see [`super::exposure_scan`]). A
+//! and the exposure table beside them (see [`super::exposure_scan`]), and
+//! checks what it read on a second thread (see [`super::read_ahead`]). A
 //! stored body that is canonical JSON (see [`super::canonical`]) is
 //! hashed as it is stored: canonical JSON parsed and written again is the
 //! same text, so this is the hash that parsing and re-writing it would
@@ -36,6 +37,7 @@ use super::entry::{self, EntryMeta, GENESIS, Head, short_hash as short};
 use super::error::LedgerError;
 use super::exposure_scan::{ExposureScan, SCAN_EXPOSURE, SealedRows};
 use super::ledger::Ledger;
+use super::read_ahead::{self, Read, Reads};
 use super::row_exposure::RowExposure;
 use super::spec::HASH_LEN;
 use super::stored::{self, SELECT_ENTRIES, StoredEntry};
@@ -207,7 +209,7 @@ impl Ledger {
     /// [`Ledger::exposure`] says).
     pub fn verify_reading(
         &self,
-        visit: impl FnMut(&EntryMeta, &str),
+        visit: impl FnMut(&EntryMeta, &str) + Send,
     ) -> Result<VerifiedRead, LedgerError> {
         let mut reading = Reading {
             visit,
@@ -224,7 +226,7 @@ impl Ledger {
     fn verify_observed(
         &self,
         head: Option<&str>,
-        observer: &mut impl Observer,
+        observer: &mut (impl Observer + Send),
     ) -> Result<Verification, LedgerError> {
         let hashes = self.stored_hashes()?;
         let mut walk = Walk::new(&hashes);
@@ -257,39 +259,56 @@ impl Ledger {
         Ok(rows.filter_map(Result::ok).collect())
     }
 
-    /// Walk every entry in `seq` order, the exposure table beside it.
+    /// Walk every entry in `seq` order, the exposure table beside it:
+    /// read here, checked on a second thread (see [`read_ahead`]).
     fn walk_entries(
         &self,
         walk: &mut Walk<'_>,
-        observer: &mut impl Observer,
+        observer: &mut (impl Observer + Send),
     ) -> Result<(), LedgerError> {
+        read_ahead::in_two_threads(
+            |reads| self.read_entries(reads),
+            |read| take(read, walk, observer),
+        )
+    }
+
+    /// Read every entry in `seq` order with its sealed rows, and the
+    /// exposure rows of no entry, emitting them as read.
+    fn read_entries(&self, reads: &mut Reads<'_>) -> Result<(), LedgerError> {
         let fail = |e| self.fail(e);
         let sql = format!("{SELECT_ENTRIES} ORDER BY e.seq");
         let mut stmt = self.conn.prepare(&sql).map_err(fail)?;
         let mut scan_stmt = self.conn.prepare(SCAN_EXPOSURE).map_err(fail)?;
         let mut scan = ExposureScan::start(&mut scan_stmt).map_err(fail)?;
-        let mut sealed = SealedRows::default();
         let mut rows = stmt.query([]).map_err(fail)?;
+        let mut loose: Vec<Box<[u8]>> = Vec::new();
         while let Some(row) = rows.next().map_err(fail)? {
-            let seq: i64 = row.get(0).map_err(fail)?;
-            scan.rows_of(seq, &mut sealed, &mut |h| observer.row(h))
+            let mut entry = reads.entry();
+            entry.seq = row.get(0).map_err(fail)?;
+            scan.rows_of(entry.seq, &mut entry.sealed, &mut |h| loose.push(h.into()))
                 .map_err(fail)?;
-            observer.entry_rows(seq, &sealed);
-            let content = sealed.decoded(seq).and_then(|sealed| {
-                let stored = stored::read_stored(row, sealed.count())?;
-                Ok(Content { stored, sealed })
-            });
-            if let Ok(c) = &content {
-                observer.entry(&c.stored.meta, c.stored.body);
+            if !loose.is_empty() && !reads.emit(Read::Loose(std::mem::take(&mut loose))) {
+                return Ok(());
             }
-            walk.step(Stored {
-                seq,
-                hash: row.get(1).ok(),
-                prev: row.get(2).ok(),
-                content,
+            let content = entry.sealed.decoded(entry.seq).and_then(|s| {
+                let StoredEntry { meta, body } = stored::read_stored(row, s.count())?;
+                entry.body.push_str(body);
+                Ok(meta)
             });
+            if content.is_err() {
+                entry.hash = row.get(1).ok();
+                entry.prev = row.get(2).ok();
+            }
+            entry.content = content;
+            if !reads.emit(Read::Entry(entry)) {
+                return Ok(());
+            }
         }
-        scan.finish(&mut |h| observer.row(h)).map_err(fail)
+        scan.finish(&mut |h| loose.push(h.into())).map_err(fail)?;
+        if !loose.is_empty() {
+            reads.emit(Read::Loose(loose));
+        }
+        Ok(())
     }
 
     /// Exposure rows and bodies numbered outside the chain: the trace of a
@@ -412,6 +431,42 @@ fn predecessor(before: u64) -> String {
     }
 }
 
+/// Take one thing read: show it to the observer and walk on, in the
+/// order of the single-threaded walk (an entry's loose rows, its sealed
+/// rows, its content, then its checks).
+fn take(read: &mut Read, walk: &mut Walk<'_>, observer: &mut impl Observer) {
+    let entry = match read {
+        Read::Loose(rows) => return rows.iter().for_each(|r| observer.row(r)),
+        Read::Entry(entry) => entry,
+    };
+    observer.entry_rows(entry.seq, &entry.sealed);
+    let (content, hash, prev) = match &entry.content {
+        Ok(meta) => {
+            let content = Content {
+                meta,
+                body: &entry.body,
+                sealed: &entry.sealed,
+            };
+            // Copies: what was read is freed by the reading thread.
+            (
+                Ok(content),
+                Some(meta.hash.clone()),
+                Some(meta.prev.clone()),
+            )
+        }
+        Err(reason) => (Err(reason.clone()), entry.hash.clone(), entry.prev.clone()),
+    };
+    if let Ok(c) = &content {
+        observer.entry(c.meta, c.body);
+    }
+    walk.step(Stored {
+        seq: entry.seq,
+        hash,
+        prev,
+        content,
+    });
+}
+
 /// One stored row as the walk sees it.
 struct Stored<'r> {
     seq: i64,
@@ -422,7 +477,8 @@ struct Stored<'r> {
 
 /// What an entry's hash is computed from, as stored.
 struct Content<'r> {
-    stored: StoredEntry<'r>,
+    meta: &'r EntryMeta,
+    body: &'r str,
     sealed: &'r SealedRows,
 }
 
@@ -430,8 +486,8 @@ impl Content<'_> {
     /// The entry's hash from its stored content: straight from the body
     /// text when it is canonical, else by parsing and re-writing it.
     fn hash(&self) -> Result<String, String> {
-        let head = Head::of_meta(&self.stored.meta);
-        let text = self.stored.body;
+        let head = Head::of_meta(self.meta);
+        let text = self.body;
         let rows = || self.sealed.hash().map_err(|e| e.to_string());
         if is_canonical(text) {
             return entry::hash_with_canonical_body(&head, text, &rows()?)
