@@ -4,6 +4,7 @@
 //! ledger only, and first says whether the hash chain verified.
 
 mod body;
+mod body_text;
 mod report;
 mod tally;
 

@@ -105,15 +105,10 @@ impl Building {
     }
 
     fn selection(&mut self, m: &EntryMeta, body: &Body<'_>) {
-        let counted: Vec<&str> = body
-            .candidates
-            .iter()
-            .flatten()
-            .filter(|c| !c.reference)
-            .map(|c| c.id.as_deref().unwrap_or_default())
-            .collect();
-        for id in &counted {
-            if !self.compared.contains(*id) {
+        let counted = || body.candidates.iter().flatten().filter(|c| !c.reference);
+        for c in counted() {
+            let id = c.id.as_deref().unwrap_or_default();
+            if !self.compared.contains(id) {
                 self.compared.insert(id.to_string());
             }
         }
@@ -122,7 +117,7 @@ impl Building {
             timestamp: timestamp_text(&m.timestamp),
             user: m.provenance.user.clone(),
             plan_hash: m.plan_hash.clone(),
-            candidates: counted.len(),
+            candidates: counted().count(),
             chosen_label: text(&body.chosen_label),
         });
         self.last_selection_rows = body.sealed_rows;

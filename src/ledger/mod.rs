@@ -31,6 +31,7 @@ mod verify;
 #[cfg(test)]
 mod tests;
 
+pub use canonical::plain_len;
 pub use entry::{
     Entry, EntryKind, EntryMeta, GENESIS, HASH_FORMAT, NewEntry, entry_hash, short_hash,
     timestamp_text,
