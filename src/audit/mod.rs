@@ -3,7 +3,13 @@
 //! has been looked at; and the selections run against it. It reads the
 //! ledger only, and first says whether the hash chain verified.
 
+mod body;
+mod body_text;
 mod report;
+mod tally;
+
+#[cfg(test)]
+mod tests;
 
 pub use report::{
     AuditReport, ChainStatus, OpeningLine, PartitionAudit, PlanExposure, SelectionLine, audit,

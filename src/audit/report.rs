@@ -1,11 +1,23 @@
 //! Building the audit report from the ledger.
+//!
+//! The audit reads the ledger once: the verify walk hands every entry's
+//! meta and body text to a [`Tally`] and counts each row's exposure, all
+//! in one snapshot of the file. When the chain verifies, every entry
+//! decodes and every hash is a full unique one, so the tally's partitions
+//! are those of the full read below (each entry fetched by its hash and
+//! parsed whole), which remains the reference and does the audit of a
+//! ledger that does not verify, whose entries may not read back at all.
 
 use std::collections::{BTreeMap, BTreeSet};
 
 use serde::Serialize;
 use serde_json::Value;
 
-use crate::ledger::{Entry, EntryKind, EntryMeta, Ledger, LedgerError, timestamp_text};
+use crate::ledger::{
+    Entry, EntryKind, EntryMeta, Ledger, LedgerError, RowExposure, Verification, timestamp_text,
+};
+
+use super::tally::Tally;
 
 /// Whether the chain verified.
 #[derive(Clone, Debug, PartialEq, Serialize)]
@@ -79,7 +91,7 @@ pub struct AuditReport {
     pub plan: Option<PlanExposure>,
 }
 
-fn histogram(counts: &[u32]) -> BTreeMap<u32, usize> {
+pub(super) fn histogram(counts: &[u32]) -> BTreeMap<u32, usize> {
     let mut h = BTreeMap::new();
     for &c in counts {
         *h.entry(c).or_insert(0) += 1;
@@ -94,14 +106,13 @@ fn text(body: &Value, key: &str) -> String {
         .to_string()
 }
 
-fn chain(ledger: &Ledger) -> Result<ChainStatus, LedgerError> {
-    let v = ledger.verify(None)?;
-    Ok(ChainStatus {
+pub(super) fn chain(v: &Verification) -> ChainStatus {
+    ChainStatus {
         verified: v.is_intact(),
         entries: v.entries,
         head: v.head.clone(),
         first_problem: v.first_problem().map(|p| p.to_string()),
-    })
+    }
 }
 
 fn selection_line(e: &Entry) -> SelectionLine {
@@ -221,7 +232,44 @@ pub type PlanRows = (String, String, Vec<String>);
 /// Audit `ledger`; with `plan` = (partition, data file hash, sealed row
 /// hashes), only partitions of that data file, plus the plan's exposure.
 pub fn audit(ledger: &Ledger, plan: Option<&PlanRows>) -> Result<AuditReport, LedgerError> {
-    let chain = chain(ledger)?;
+    ledger.read_snapshot(|| {
+        let mut tally = Tally::new(plan.map(|(_, data, _)| data.as_str()));
+        let read = ledger.verify_reading(|meta, body| tally.add(meta, body))?;
+        let chain = chain(&read.verification);
+        let tallied = match chain.verified {
+            true => tally.finish(&read.exposure),
+            false => None,
+        };
+        let partitions = match tallied {
+            Some(partitions) => partitions,
+            None => full_partitions(ledger, plan)?,
+        };
+        Ok(AuditReport {
+            ledger: ledger.path().display().to_string(),
+            chain,
+            partitions,
+            plan: plan.map(|p| plan_exposure(p, &read.exposure)),
+        })
+    })
+}
+
+/// The rows the plan seals now and how often each was looked at.
+fn plan_exposure((id, _, rows): &PlanRows, exposure: &RowExposure) -> PlanExposure {
+    let counts: Vec<u32> = rows.iter().map(|r| exposure.openings(r)).collect();
+    PlanExposure {
+        partition: id.clone(),
+        sealed_rows: rows.len(),
+        already_seen_rows: counts.iter().filter(|&&c| c > 0).count(),
+        rows_by_openings: histogram(&counts),
+    }
+}
+
+/// The partitions read the full way: every entry fetched by its hash and
+/// parsed whole, each partition's rows counted with [`Ledger::exposure`].
+pub(super) fn full_partitions(
+    ledger: &Ledger,
+    plan: Option<&PlanRows>,
+) -> Result<Vec<PartitionAudit>, LedgerError> {
     let metas = ledger.list()?;
     let mut groups: BTreeMap<(u64, String), Vec<&EntryMeta>> = BTreeMap::new();
     let mut first_seen: BTreeMap<&str, u64> = BTreeMap::new();
@@ -235,26 +283,5 @@ pub fn audit(ledger: &Ledger, plan: Option<&PlanRows>) -> Result<AuditReport, Le
             .or_default()
             .push(m);
     }
-    let partitions = groups
-        .values()
-        .map(|g| partition(ledger, g))
-        .collect::<Result<Vec<_>, _>>()?;
-    let plan = match plan {
-        Some((id, _, rows)) => {
-            let counts = ledger.exposure(rows)?;
-            Some(PlanExposure {
-                partition: id.clone(),
-                sealed_rows: rows.len(),
-                already_seen_rows: counts.iter().filter(|&&c| c > 0).count(),
-                rows_by_openings: histogram(&counts),
-            })
-        }
-        None => None,
-    };
-    Ok(AuditReport {
-        ledger: ledger.path().display().to_string(),
-        chain,
-        partitions,
-        plan,
-    })
+    groups.values().map(|g| partition(ledger, g)).collect()
 }

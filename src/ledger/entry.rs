@@ -160,20 +160,160 @@ pub fn entry_hash(entry: &Entry) -> Result<HashHex, CanonError> {
 /// The hash `entry` would have at position `seq`: lets verify tell an entry
 /// that was moved from one that was rewritten.
 pub fn entry_hash_as(entry: &Entry, seq: u64) -> Result<HashHex, CanonError> {
+    let head = Head {
+        seq,
+        ..Head::of_entry(entry)
+    };
+    hash_parts(&head, &entry.body, sealed_rows_hash(&entry.sealed_rows)?)
+}
+
+/// The hashed fields of an entry other than its body and sealed rows.
+#[derive(Clone, Copy)]
+pub(super) struct Head<'a> {
+    pub seq: u64,
+    pub prev: &'a str,
+    pub kind: EntryKind,
+    pub timestamp: &'a DateTime<Utc>,
+    pub provenance: &'a Provenance,
+    pub plan_hash: &'a str,
+    pub data_file: &'a str,
+    pub partition: &'a str,
+    pub result_hash: &'a str,
+}
+
+impl<'a> Head<'a> {
+    fn of_entry(e: &'a Entry) -> Self {
+        Head {
+            seq: e.seq,
+            prev: &e.prev,
+            kind: e.kind,
+            timestamp: &e.timestamp,
+            provenance: &e.provenance,
+            plan_hash: &e.plan_hash,
+            data_file: &e.data_file,
+            partition: &e.partition,
+            result_hash: &e.result_hash,
+        }
+    }
+
+    pub(super) fn of_meta(m: &'a EntryMeta) -> Self {
+        Head {
+            seq: m.seq,
+            prev: &m.prev,
+            kind: m.kind,
+            timestamp: &m.timestamp,
+            provenance: &m.provenance,
+            plan_hash: &m.plan_hash,
+            data_file: &m.data_file,
+            partition: &m.partition,
+            result_hash: &m.result_hash,
+        }
+    }
+}
+
+/// The entry hash from its parts: the reference form, through
+/// [`canon::hash_canonical`].
+pub(super) fn hash_parts(
+    head: &Head<'_>,
+    body: &serde_json::Value,
+    sealed_rows: HashHex,
+) -> Result<HashHex, CanonError> {
     canon::hash_canonical(&Hashed {
         format: HASH_FORMAT,
-        seq,
-        prev: &entry.prev,
-        kind: entry.kind,
-        timestamp: timestamp_text(&entry.timestamp),
-        provenance: &entry.provenance,
-        plan_hash: &entry.plan_hash,
-        data_file: &entry.data_file,
-        partition: &entry.partition,
-        result_hash: &entry.result_hash,
-        body: &entry.body,
-        sealed_rows: sealed_rows_hash(&entry.sealed_rows)?,
+        seq: head.seq,
+        prev: head.prev,
+        kind: head.kind,
+        timestamp: timestamp_text(head.timestamp),
+        provenance: head.provenance,
+        plan_hash: head.plan_hash,
+        data_file: head.data_file,
+        partition: head.partition,
+        result_hash: head.result_hash,
+        body,
+        sealed_rows,
     })
+}
+
+/// The hashed form without its body, its fields declared in the order
+/// canonical JSON sorts them, so that writing it directly gives the same
+/// text as [`Hashed`] through a `serde_json::Value` (whose maps sort).
+#[derive(Serialize)]
+struct SortedTail<'a> {
+    data_file: &'a str,
+    format: i64,
+    kind: EntryKind,
+    partition: &'a str,
+    plan_hash: &'a str,
+    prev: &'a str,
+    provenance: SortedProvenance<'a>,
+    result_hash: &'a str,
+    sealed_rows: &'a str,
+    seq: u64,
+    timestamp: String,
+}
+
+/// [`Provenance`] with its fields in sorted order.
+#[derive(Serialize)]
+struct SortedProvenance<'a> {
+    git_commit: &'a Option<String>,
+    git_dirty: &'a Option<bool>,
+    host: &'a str,
+    plan_path: &'a str,
+    tool_version: &'a str,
+    user: &'a str,
+}
+
+impl<'a> SortedProvenance<'a> {
+    fn of(p: &'a Provenance) -> Self {
+        // Destructured so that a new field cannot be left out unnoticed.
+        let Provenance {
+            user,
+            host,
+            tool_version,
+            plan_path,
+            git_commit,
+            git_dirty,
+        } = p;
+        SortedProvenance {
+            git_commit,
+            git_dirty,
+            host,
+            plan_path,
+            tool_version,
+            user,
+        }
+    }
+}
+
+/// The same hash as [`hash_parts`], from a body that is already canonical
+/// JSON text (see [`super::canonical::is_canonical`]) and the hash of the
+/// sealed rows. `body` is the first key of the hashed form, so the hashed
+/// text is `{"body":` + the body text + `,` + the other fields.
+pub(super) fn hash_with_canonical_body(
+    head: &Head<'_>,
+    body: &str,
+    sealed_rows: &str,
+) -> Result<HashHex, CanonError> {
+    let tail = serde_json::to_vec(&SortedTail {
+        data_file: head.data_file,
+        format: HASH_FORMAT,
+        kind: head.kind,
+        partition: head.partition,
+        plan_hash: head.plan_hash,
+        prev: head.prev,
+        provenance: SortedProvenance::of(head.provenance),
+        result_hash: head.result_hash,
+        sealed_rows,
+        seq: head.seq,
+        timestamp: timestamp_text(head.timestamp),
+    })?;
+    let mut hasher = blake3::Hasher::new();
+    hasher.update(br#"{"body":"#);
+    hasher.update(body.as_bytes());
+    hasher.update(b",");
+    // The tail is an object: drop its opening brace.
+    hasher.update(tail.get(1..).unwrap_or_default());
+    Ok(hasher.finalize().to_hex().to_string())
 }
 
 /// The first 12 characters of a hash, for messages; never splits a character.
@@ -286,6 +426,59 @@ mod tests {
         let kept = truncate_timestamp(at);
         assert_eq!(timestamp_text(&kept), "2023-11-14T22:13:20.123456Z");
         assert_eq!(parse_timestamp(&timestamp_text(&kept)), Some(kept));
+    }
+
+    fn any_text() -> impl proptest::strategy::Strategy<Value = String> {
+        use proptest::prelude::*;
+        prop::collection::vec(any::<char>(), 0..6).prop_map(String::from_iter)
+    }
+
+    proptest::proptest! {
+        /// The hash from a canonical body's text equals the reference hash
+        /// through `serde_json::Value`, whatever the fields hold.
+        #[test]
+        fn the_hash_from_body_text_equals_the_reference(
+            seq in 0u64..u64::MAX,
+            texts in proptest::collection::vec(any_text(), 10),
+            git in proptest::option::of(any_text()),
+            dirty in proptest::option::of(proptest::bool::ANY),
+            opening in proptest::bool::ANY,
+            micros in 0i64..4_000_000_000_000_000,
+            body in proptest::collection::btree_map(any_text(), any_text(), 0..4),
+            score in proptest::num::f64::NORMAL,
+        ) {
+            let mut e = sample();
+            e.seq = seq;
+            e.prev = texts[0].clone();
+            e.kind = if opening { EntryKind::Opening } else { EntryKind::Selection };
+            e.timestamp = DateTime::from_timestamp_micros(micros).unwrap();
+            e.plan_hash = texts[1].clone();
+            e.data_file = texts[2].clone();
+            e.partition = texts[3].clone();
+            e.result_hash = texts[4].clone();
+            e.body = serde_json::json!({"fields": body, "score": score, "n": seq});
+            e.sealed_rows = texts[5..7].to_vec();
+            e.provenance = Provenance {
+                user: texts[7].clone(),
+                host: texts[8].clone(),
+                tool_version: texts[9].clone(),
+                plan_path: texts[0].clone(),
+                git_commit: git,
+                git_dirty: dirty,
+            };
+            let body_text = canon::canonical_json(&e.body).unwrap();
+            let rows = sealed_rows_hash(&e.sealed_rows).unwrap();
+            let fast = hash_with_canonical_body(&Head::of_entry(&e), &body_text, &rows).unwrap();
+            proptest::prop_assert_eq!(fast, entry_hash(&e).unwrap());
+        }
+    }
+
+    #[test]
+    fn the_hash_from_body_text_equals_the_documented_form() {
+        let e = sample();
+        let rows = sealed_rows_hash(&e.sealed_rows).unwrap();
+        let fast = hash_with_canonical_body(&Head::of_entry(&e), r#"{"score":0.5}"#, &rows);
+        assert_eq!(fast.unwrap(), entry_hash(&e).unwrap());
     }
 
     #[test]

@@ -174,12 +174,24 @@ impl Ledger {
         })
     }
 
+    /// Run `f` so that every read of this ledger inside it (through any
+    /// of its methods) sees one state of the file.
+    pub fn read_snapshot<T>(
+        &self,
+        f: impl FnOnce() -> Result<T, LedgerError>,
+    ) -> Result<T, LedgerError> {
+        self.reading(f)
+    }
+
     /// Run `f` inside one read transaction, so that its statements see one
-    /// state of the file.
+    /// state of the file. Inside a transaction already, `f` runs in it.
     pub(super) fn reading<T>(
         &self,
         f: impl FnOnce() -> Result<T, LedgerError>,
     ) -> Result<T, LedgerError> {
+        if !self.conn.is_autocommit() {
+            return f();
+        }
         let tx = rusqlite::Transaction::new_unchecked(&self.conn, TransactionBehavior::Deferred)
             .map_err(|e| self.fail(e))?;
         let out = f()?;

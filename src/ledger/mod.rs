@@ -11,14 +11,18 @@
 //! row has been looked at, however the data file was shuffled since.
 //! Every hash goes through [`crate::canon`].
 
+mod canonical;
 mod entry;
 mod error;
+mod exposure_scan;
 mod jobs;
 // The file is named after the type it holds, as everywhere else.
 #[allow(clippy::module_inception)]
 mod ledger;
 mod location;
 mod provenance;
+mod read_ahead;
+mod row_exposure;
 mod schema;
 mod spec;
 mod stored;
@@ -27,6 +31,7 @@ mod verify;
 #[cfg(test)]
 mod tests;
 
+pub use canonical::plain_len;
 pub use entry::{
     Entry, EntryKind, EntryMeta, GENESIS, HASH_FORMAT, NewEntry, entry_hash, short_hash,
     timestamp_text,
@@ -38,6 +43,7 @@ pub use location::{
     LEDGER_FILE, LEDGER_VAR, default_path, git_root, ledger_var, resolve_path, resolve_path_in,
 };
 pub use provenance::Provenance;
+pub use row_exposure::RowExposure;
 pub use schema::{APPLICATION_ID, BUSY_TIMEOUT, SCHEMA_VERSION};
 pub use spec::{EntrySpec, MIN_PREFIX};
-pub use verify::{HeadCheck, Problem, ProblemKind, Verification};
+pub use verify::{HeadCheck, Problem, ProblemKind, Verification, VerifiedRead};

@@ -151,22 +151,49 @@ fn read_provenance(row: &Row<'_>, seq: u64) -> Result<Provenance, Undecodable> {
     })
 }
 
-/// Decode an entry row (see [`SELECT_ENTRIES`]); `sealed_rows` come separately.
-pub fn read_entry(row: &Row<'_>, sealed_rows: Vec<String>) -> Result<Entry, Undecodable> {
+/// An entry row decoded but for its body, which stays the stored text.
+#[derive(Debug)]
+pub struct StoredEntry<'r> {
+    pub meta: EntryMeta,
+    pub body: &'r str,
+}
+
+/// Decode an entry row (see [`SELECT_ENTRIES`]) but its body, given how
+/// many sealed rows the exposure table holds for it (copies counted).
+pub fn read_stored<'r>(row: &'r Row<'_>, sealed_rows: u64) -> Result<StoredEntry<'r>, Undecodable> {
     let meta = read_meta(row)?;
-    if meta.sealed_row_count != sealed_rows.len() as u64 {
+    if meta.sealed_row_count != sealed_rows {
         return Err(format!(
             "entry {} says it has {} sealed rows but the exposure table holds {}",
-            meta.seq,
-            meta.sealed_row_count,
-            sealed_rows.len()
+            meta.seq, meta.sealed_row_count, sealed_rows
         ));
     }
-    let body: String = row
-        .get(17)
-        .map_err(|e| format!("entry {}: body: {e}", meta.seq))?;
-    let body = serde_json::from_str(&body)
-        .map_err(|e| format!("entry {} has a body that is not JSON: {e}", meta.seq))?;
+    let body = body_text(row, meta.seq)?;
+    Ok(StoredEntry { meta, body })
+}
+
+/// The body column as text, read in place.
+fn body_text<'r>(row: &'r Row<'_>, seq: u64) -> Result<&'r str, Undecodable> {
+    if let Ok(Ok(text)) = row.get_ref(17).map(|v| v.as_str()) {
+        return Ok(text);
+    }
+    // Decoding as `String` accepts exactly what `as_str` accepts; it is
+    // asked again only for its words.
+    Err(match row.get::<_, String>(17) {
+        Err(e) => format!("entry {seq}: body: {e}"),
+        Ok(_) => format!("entry {seq}: body: not readable as text"),
+    })
+}
+
+/// Parse the stored body text of entry `seq`.
+pub fn parse_body(seq: u64, text: &str) -> Result<serde_json::Value, Undecodable> {
+    serde_json::from_str(text).map_err(|e| format!("entry {seq} has a body that is not JSON: {e}"))
+}
+
+/// Decode an entry row (see [`SELECT_ENTRIES`]); `sealed_rows` come separately.
+pub fn read_entry(row: &Row<'_>, sealed_rows: Vec<String>) -> Result<Entry, Undecodable> {
+    let StoredEntry { meta, body } = read_stored(row, sealed_rows.len() as u64)?;
+    let body = parse_body(meta.seq, body)?;
     Ok(Entry {
         seq: meta.seq,
         hash: meta.hash,

@@ -710,3 +710,238 @@ fn processes_creating_the_same_ledger_at_once_all_open_it() {
         assert!(ledger.verify(None).expect("verify").is_intact());
     }
 }
+
+/// The content check as the walk made it before it read bodies in place:
+/// each entry's sealed rows asked for with a query of their own, every
+/// body parsed and re-written to hash it. The content problems it finds,
+/// by entry.
+fn content_problems_the_slow_way(ledger: &Ledger) -> Vec<(u64, String)> {
+    let sql = format!("{} ORDER BY e.seq", stored::SELECT_ENTRIES);
+    let mut stmt = ledger.conn.prepare(&sql).unwrap();
+    let mut rows = stmt.query([]).unwrap();
+    let mut found = Vec::new();
+    while let Some(row) = rows.next().unwrap() {
+        let seq: i64 = row.get(0).unwrap();
+        let hash: Option<String> = row.get(1).ok();
+        let sealed = stored::sealed_rows(&ledger.conn, seq).unwrap();
+        let detail = match sealed.and_then(|r| stored::read_entry(row, r)) {
+            Err(reason) => Some(reason),
+            Ok(e) => match entry_hash(&e) {
+                Ok(h) if Some(&h) == hash.as_ref() => None,
+                Ok(_) => Some("its stored content no longer hashes to its recorded hash".into()),
+                Err(e) => Some(e.to_string()),
+            },
+        };
+        found.extend(detail.map(|d| (seq as u64, d)));
+    }
+    found
+}
+
+fn content_problems(ledger: &Ledger) -> Vec<(u64, String)> {
+    let v = ledger.verify(None).unwrap();
+    let content = v.problems.into_iter();
+    let content = content.filter(|p| p.kind == ProblemKind::ContentChanged);
+    content.map(|p| (p.seq.unwrap(), p.detail)).collect()
+}
+
+/// The hash entry `seq` would have with `body` as its stored text, taken
+/// over that text as it stands, canonical or not: what someone who hashed
+/// stored bytes would write.
+fn hash_over_text(ledger: &Ledger, seq: u64, body: &str) -> String {
+    let e = ledger.list().unwrap().remove(seq as usize - 1);
+    let rows = stored::sealed_rows(&ledger.conn, seq as i64)
+        .unwrap()
+        .unwrap();
+    let rows = entry::sealed_rows_hash(&rows).unwrap();
+    entry::hash_with_canonical_body(&entry::Head::of_meta(&e), body, &rows).unwrap()
+}
+
+#[test]
+fn the_walk_judges_content_as_parsing_every_body_does() {
+    // Each tampering touches content only (no numbers, links or order),
+    // so the walk checks every entry's content; `true` when it changes
+    // what the entry hashes to.
+    let cases = [
+        ("", false),
+        // Re-formatted by hand, content unchanged: verifies, as before.
+        (
+            r#"UPDATE entry_body SET body = '{ "i" : 2 , "score" : 0.75 }' WHERE seq = 2"#,
+            false,
+        ),
+        (
+            r#"UPDATE entry_body SET body = '{"score":7.5e-1,"i":2}' WHERE seq = 2"#,
+            false,
+        ),
+        (
+            r#"UPDATE entry_body SET body = '{"i":2,"score":0.1,"score":0.75}' WHERE seq = 2"#,
+            false,
+        ),
+        (
+            r#"UPDATE entry_body SET body = '{"i":2,"sc\u006fre":0.75}' WHERE seq = 2"#,
+            false,
+        ),
+        (
+            "UPDATE entry SET timestamp = '2024-01-01T00:00:02.000000+00:00' WHERE seq = 2",
+            false,
+        ),
+        // Rows of a number no entry has are no entry's content.
+        ("INSERT INTO exposure VALUES ('r9', 2.5, 1)", false),
+        // Re-formatted and changed.
+        (
+            r#"UPDATE entry_body SET body = '{ "i" : 2 , "score" : 0.99 }' WHERE seq = 2"#,
+            true,
+        ),
+        (
+            r#"UPDATE entry_body SET body = '{"i":2,"score":0.750001}' WHERE seq = 2"#,
+            true,
+        ),
+        // Not JSON, not text, other JSON, gone.
+        (
+            "UPDATE entry_body SET body = '{\"i\":2,' WHERE seq = 2",
+            true,
+        ),
+        (
+            "UPDATE entry_body SET body = CAST(body AS BLOB) WHERE seq = 3",
+            true,
+        ),
+        ("UPDATE entry_body SET body = 7 WHERE seq = 3", true),
+        ("DELETE FROM entry_body WHERE seq = 1", true),
+        // Exposure rows that do not decode, or are extra, or missing.
+        (
+            "UPDATE exposure SET copies = 0 WHERE seq = 2 AND row_hash = 'r1'",
+            true,
+        ),
+        (
+            "UPDATE exposure SET copies = 2 WHERE seq = 2 AND row_hash = 'r1'",
+            true,
+        ),
+        (
+            "UPDATE exposure SET row_hash = CAST('r1' AS BLOB) WHERE seq = 2 AND row_hash = 'r1'",
+            true,
+        ),
+        (
+            "UPDATE exposure SET seq = 2.5 WHERE seq = 2 AND row_hash = 'r1'",
+            true,
+        ),
+        ("INSERT INTO exposure VALUES ('r0', 2, 1)", true),
+        // Columns that no longer decode or no longer match.
+        ("UPDATE entry SET sealed_row_count = 2 WHERE seq = 2", true),
+        ("UPDATE entry SET timestamp = 'later' WHERE seq = 2", true),
+        ("UPDATE entry SET format = 2 WHERE seq = 4", true),
+        ("UPDATE entry SET user = 'eve' WHERE seq = 4", true),
+        ("UPDATE entry SET hash = upper(hash) WHERE seq = 4", true),
+    ];
+    for (sql, changed) in cases {
+        let (_dir, ledger) = four_entries();
+        if !sql.is_empty() {
+            tamper(ledger.path(), sql);
+        }
+        let slow = content_problems_the_slow_way(&ledger);
+        assert_eq!(content_problems(&ledger), slow, "{sql}");
+        assert_eq!(!slow.is_empty(), changed, "{sql}: {slow:?}");
+        assert_eq!(ledger.verify(None).unwrap().is_intact(), !changed, "{sql}");
+    }
+}
+
+#[test]
+fn a_hash_forged_over_non_canonical_text_is_caught() {
+    // A tamperer edits the last body and writes a hash taken over the
+    // stored text as it now stands; the hash is defined over the
+    // canonical form, so the entry does not verify. Over canonical text
+    // the same forgery is a consistent rewrite.
+    for (body, intact) in [
+        (r#"{"score": 0.99, "i": 4}"#, false),
+        (r#"{"i":4,"score":0.99}"#, true),
+    ] {
+        let (_dir, ledger) = four_entries();
+        let forged = hash_over_text(&ledger, 4, body);
+        tamper(
+            ledger.path(),
+            &format!(
+                "UPDATE entry_body SET body = '{body}' WHERE seq = 4;
+                 UPDATE entry SET hash = '{forged}' WHERE seq = 4;"
+            ),
+        );
+        assert_eq!(ledger.verify(None).unwrap().is_intact(), intact, "{body}");
+        assert_eq!(
+            content_problems(&ledger),
+            content_problems_the_slow_way(&ledger)
+        );
+    }
+}
+
+#[test]
+fn verify_reading_shows_every_entry_and_counts_exposure() {
+    let (_dir, ledger) = four_entries();
+    ledger
+        .append(opening(5, "seal-2", &["r2", "r2", "r5"]))
+        .unwrap();
+    let mut seen = Vec::new();
+    let read = ledger
+        .verify_reading(|meta, body| seen.push((meta.clone(), body.to_string())))
+        .unwrap();
+    assert_eq!(read.verification, ledger.verify(None).unwrap());
+    let metas: Vec<EntryMeta> = seen.iter().map(|(m, _)| m.clone()).collect();
+    assert_eq!(metas, ledger.list().unwrap());
+    for (meta, body) in &seen {
+        let e = ledger.entry(&meta.hash).unwrap();
+        assert_eq!(body, &crate::canon::canonical_json(&e.body).unwrap());
+    }
+    let rows: Vec<String> = ["r1", "r2", "r3", "r4", "r5", "r6"]
+        .map(String::from)
+        .to_vec();
+    let counts: Vec<u32> = rows.iter().map(|r| read.exposure.openings(r)).collect();
+    assert_eq!(counts, ledger.exposure(&rows).unwrap());
+    // Rows of numbers no entry has still count, as `exposure` counts them.
+    tamper(
+        ledger.path(),
+        "INSERT INTO exposure VALUES ('r6', 2.5, 1); INSERT INTO exposure VALUES ('r6', 99, 1);
+         INSERT INTO exposure VALUES ('r6', -1, 1);",
+    );
+    let read = ledger.verify_reading(|_, _| {}).unwrap();
+    assert_eq!(read.exposure.openings("r6"), 3);
+    assert_eq!(ledger.exposure(&rows[5..]).unwrap(), [3]);
+}
+
+#[test]
+fn reads_inside_a_snapshot_share_it() {
+    let (_dir, ledger) = four_entries();
+    let other = Ledger::open(ledger.path()).unwrap();
+    let (before, after) = ledger
+        .read_snapshot(|| {
+            let before = ledger.list()?.len();
+            other.append(selection(9)).unwrap();
+            Ok((before, ledger.verify(None)?.entries))
+        })
+        .unwrap();
+    assert_eq!((before, after), (4, 4));
+    assert_eq!(ledger.verify(None).unwrap().entries, 5);
+}
+
+#[test]
+fn orphans_are_found_as_one_condition_found_them() {
+    // The query before it was split into one condition per index search.
+    const ONE_CONDITION: &str = "SELECT seq FROM exposure WHERE seq < 1 OR seq > ?1 \
+         UNION SELECT seq FROM entry_body WHERE seq < 1 OR seq > ?1 ORDER BY 1";
+    let cases = [
+        "",
+        "DELETE FROM entry WHERE seq = 4",
+        "INSERT INTO exposure VALUES ('r', 0, 1); INSERT INTO exposure VALUES ('r', -3, 2);
+         INSERT INTO entry_body VALUES (9, '{}'); INSERT INTO entry_body VALUES (-1, '{}');",
+        "INSERT INTO exposure VALUES ('r', 4.5, 1); INSERT INTO exposure VALUES ('r', 0.5, 1);
+         INSERT INTO exposure VALUES ('r', 'x', 1); INSERT INTO exposure VALUES ('r', x'01', 1);
+         INSERT INTO exposure VALUES ('r', 1e30, 1); INSERT INTO exposure VALUES ('s', 7, 1);",
+    ];
+    for sql in cases {
+        let (_dir, ledger) = four_entries();
+        if !sql.is_empty() {
+            tamper(ledger.path(), sql);
+        }
+        let run = |query: &str| -> Vec<String> {
+            let mut stmt = ledger.conn.prepare(query).unwrap();
+            let rows = stmt.query_map([3i64], |r| r.get::<_, rusqlite::types::Value>(0));
+            rows.unwrap().map(|v| format!("{:?}", v.unwrap())).collect()
+        };
+        assert_eq!(run(verify::ORPHANS), run(ONE_CONDITION), "{sql}");
+    }
+}

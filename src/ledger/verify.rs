@@ -12,6 +12,16 @@
 //! The job cache is not part of the chain, but every cached result is
 //! re-hashed and a mismatch is a problem of its own kind.
 //!
+//! The walk reads each table once, in order: the entries with their bodies,
+//! and the exposure table beside them (see [`super::exposure_scan`]), and
+//! checks what it read on a second thread (see [`super::read_ahead`]). A
+//! stored body that is canonical JSON (see [`super::canonical`]) is
+//! hashed as it is stored: canonical JSON parsed and written again is the
+//! same text, so this is the hash that parsing and re-writing it would
+//! give. Any other body is parsed and re-written, as the hash is defined;
+//! so a body re-formatted by hand with its content unchanged still
+//! verifies, and one whose content changed does not.
+//!
 //! A head is a hash someone wrote down earlier (in a report, a commit, an
 //! email). If it is the hash of an entry and the chain verifies up to that
 //! entry, nothing up to it was rewritten. If no entry has it, the history
@@ -22,11 +32,23 @@ use std::fmt;
 
 use serde::Serialize;
 
-use super::entry::{Entry, GENESIS, entry_hash, short_hash as short};
+use super::canonical::is_canonical;
+use super::entry::{self, EntryMeta, GENESIS, Head, short_hash as short};
 use super::error::LedgerError;
+use super::exposure_scan::{ExposureScan, SCAN_EXPOSURE, SealedRows};
 use super::ledger::Ledger;
+use super::read_ahead::{self, Read, Reads};
+use super::row_exposure::RowExposure;
 use super::spec::HASH_LEN;
-use super::stored::{self, SELECT_ENTRIES};
+use super::stored::{self, SELECT_ENTRIES, StoredEntry};
+
+/// The entry numbers of exposure rows and bodies outside `1..=?1`. Each
+/// condition on its own, so that SQLite searches the indexes on `seq`
+/// instead of reading both tables through (an `OR` made it scan them).
+pub(super) const ORPHANS: &str = "SELECT seq FROM exposure WHERE seq < 1 \
+     UNION SELECT seq FROM exposure WHERE seq > ?1 \
+     UNION SELECT seq FROM entry_body WHERE seq < 1 \
+     UNION SELECT seq FROM entry_body WHERE seq > ?1 ORDER BY 1";
 
 /// How many cache mismatches are listed one by one.
 const MAX_JOB_PROBLEMS: usize = 100;
@@ -125,28 +147,101 @@ impl Verification {
     }
 }
 
+/// What [`Ledger::verify_reading`] found besides the verification.
+#[derive(Debug, Clone)]
+pub struct VerifiedRead {
+    pub verification: Verification,
+    /// How many openings included each row, in the state verified.
+    pub exposure: RowExposure,
+}
+
+/// What a walk shows besides its problems.
+trait Observer {
+    /// An entry whose columns decode, with its stored body text.
+    fn entry(&mut self, meta: &EntryMeta, body: &str);
+    /// The sealed rows of entry `seq` as read.
+    fn entry_rows(&mut self, seq: i64, rows: &SealedRows);
+    /// An exposure row (its row hash, text only) read on its own: of no
+    /// entry, or one of an entry's rows that does not decode.
+    fn row(&mut self, row_hash: &[u8]);
+}
+
+/// A plain verify shows nothing.
+struct Unobserved;
+
+impl Observer for Unobserved {
+    fn entry(&mut self, _: &EntryMeta, _: &str) {}
+    fn entry_rows(&mut self, _: i64, _: &SealedRows) {}
+    fn row(&mut self, _: &[u8]) {}
+}
+
+/// [`Ledger::verify_reading`]: hands entries on and counts rows.
+struct Reading<F> {
+    visit: F,
+    exposure: RowExposure,
+}
+
+impl<F: FnMut(&EntryMeta, &str)> Observer for Reading<F> {
+    fn entry(&mut self, meta: &EntryMeta, body: &str) {
+        (self.visit)(meta, body);
+    }
+    fn entry_rows(&mut self, seq: i64, rows: &SealedRows) {
+        self.exposure.add_entry(seq, rows);
+    }
+    fn row(&mut self, row_hash: &[u8]) {
+        self.exposure.add_row(row_hash);
+    }
+}
+
 impl Ledger {
     /// Verify the whole ledger, and that `head` (a full entry hash recorded
     /// earlier) is still part of its history. Problems are reported in the
     /// result; an error means the ledger could not be read at all.
     pub fn verify(&self, head: Option<&str>) -> Result<Verification, LedgerError> {
         let head = head.map(parse_head).transpose()?;
-        self.reading(|| {
-            let hashes = self.stored_hashes()?;
-            let mut walk = Walk::new(&hashes);
-            self.walk_entries(&mut walk)?;
-            let orphans = self.orphans(walk.expected - 1)?;
-            let mut problems = merge_orphans(walk.problems, orphans, &walk.missing);
-            let (jobs_checked, job_problems) = self.check_jobs()?;
-            problems.extend(job_problems);
-            let head_check = head.map(|h| check_head(&h, &hashes, &mut problems));
-            Ok(Verification {
-                entries: walk.entries,
-                head: walk.last_hash,
-                jobs_checked,
-                problems,
-                head_check,
-            })
+        self.reading(|| self.verify_observed(head.as_deref(), &mut Unobserved))
+    }
+
+    /// [`Ledger::verify`] without a head that, in the same one read of
+    /// the file, hands every entry that decodes (its columns and its
+    /// sealed rows) to `visit` in chain order, as its meta and its stored
+    /// body text, and counts how many openings included each row (what
+    /// [`Ledger::exposure`] says).
+    pub fn verify_reading(
+        &self,
+        visit: impl FnMut(&EntryMeta, &str) + Send,
+    ) -> Result<VerifiedRead, LedgerError> {
+        let mut reading = Reading {
+            visit,
+            exposure: RowExposure::default(),
+        };
+        let verification = self.reading(|| self.verify_observed(None, &mut reading))?;
+        reading.exposure.seal();
+        Ok(VerifiedRead {
+            verification,
+            exposure: reading.exposure,
+        })
+    }
+
+    fn verify_observed(
+        &self,
+        head: Option<&str>,
+        observer: &mut (impl Observer + Send),
+    ) -> Result<Verification, LedgerError> {
+        let hashes = self.stored_hashes()?;
+        let mut walk = Walk::new(&hashes);
+        self.walk_entries(&mut walk, observer)?;
+        let orphans = self.orphans(walk.expected - 1)?;
+        let mut problems = merge_orphans(walk.problems, orphans, &walk.missing);
+        let (jobs_checked, job_problems) = self.check_jobs()?;
+        problems.extend(job_problems);
+        let head_check = head.map(|h| check_head(h, &hashes, &mut problems));
+        Ok(Verification {
+            entries: walk.entries,
+            head: walk.last_hash,
+            jobs_checked,
+            problems,
+            head_check,
         })
     }
 
@@ -164,21 +259,54 @@ impl Ledger {
         Ok(rows.filter_map(Result::ok).collect())
     }
 
-    /// Walk every entry in `seq` order.
-    fn walk_entries(&self, walk: &mut Walk<'_>) -> Result<(), LedgerError> {
+    /// Walk every entry in `seq` order, the exposure table beside it:
+    /// read here, checked on a second thread (see [`read_ahead`]).
+    fn walk_entries(
+        &self,
+        walk: &mut Walk<'_>,
+        observer: &mut (impl Observer + Send),
+    ) -> Result<(), LedgerError> {
+        read_ahead::in_two_threads(
+            |reads| self.read_entries(reads),
+            |read| take(read, walk, observer),
+        )
+    }
+
+    /// Read every entry in `seq` order with its sealed rows, and the
+    /// exposure rows of no entry, emitting them as read.
+    fn read_entries(&self, reads: &mut Reads<'_>) -> Result<(), LedgerError> {
+        let fail = |e| self.fail(e);
         let sql = format!("{SELECT_ENTRIES} ORDER BY e.seq");
-        let mut stmt = self.conn.prepare(&sql).map_err(|e| self.fail(e))?;
-        let mut rows = stmt.query([]).map_err(|e| self.fail(e))?;
-        while let Some(row) = rows.next().map_err(|e| self.fail(e))? {
-            let seq: i64 = row.get(0).map_err(|e| self.fail(e))?;
-            let sealed = stored::sealed_rows(&self.conn, seq).map_err(|e| self.fail(e))?;
-            let stored = Stored {
-                seq,
-                hash: row.get(1).ok(),
-                prev: row.get(2).ok(),
-                entry: sealed.and_then(|rows| stored::read_entry(row, rows)),
-            };
-            walk.step(stored);
+        let mut stmt = self.conn.prepare(&sql).map_err(fail)?;
+        let mut scan_stmt = self.conn.prepare(SCAN_EXPOSURE).map_err(fail)?;
+        let mut scan = ExposureScan::start(&mut scan_stmt).map_err(fail)?;
+        let mut rows = stmt.query([]).map_err(fail)?;
+        let mut loose: Vec<Box<[u8]>> = Vec::new();
+        while let Some(row) = rows.next().map_err(fail)? {
+            let mut entry = reads.entry();
+            entry.seq = row.get(0).map_err(fail)?;
+            scan.rows_of(entry.seq, &mut entry.sealed, &mut |h| loose.push(h.into()))
+                .map_err(fail)?;
+            if !loose.is_empty() && !reads.emit(Read::Loose(std::mem::take(&mut loose))) {
+                return Ok(());
+            }
+            let content = entry.sealed.decoded(entry.seq).and_then(|s| {
+                let StoredEntry { meta, body } = stored::read_stored(row, s.count())?;
+                entry.body.push_str(body);
+                Ok(meta)
+            });
+            if content.is_err() {
+                entry.hash = row.get(1).ok();
+                entry.prev = row.get(2).ok();
+            }
+            entry.content = content;
+            if !reads.emit(Read::Entry(entry)) {
+                return Ok(());
+            }
+        }
+        scan.finish(&mut |h| loose.push(h.into())).map_err(fail)?;
+        if !loose.is_empty() {
+            reads.emit(Read::Loose(loose));
         }
         Ok(())
     }
@@ -187,13 +315,7 @@ impl Ledger {
     /// deleted last entry. (Inside the chain a deleted entry leaves a gap,
     /// which the walk reports.)
     fn orphans(&self, last: u64) -> Result<Vec<Problem>, LedgerError> {
-        let mut stmt = self
-            .conn
-            .prepare(
-                "SELECT seq FROM exposure WHERE seq < 1 OR seq > ?1 \
-                 UNION SELECT seq FROM entry_body WHERE seq < 1 OR seq > ?1 ORDER BY 1",
-            )
-            .map_err(|e| self.fail(e))?;
+        let mut stmt = self.conn.prepare(ORPHANS).map_err(|e| self.fail(e))?;
         let last = i64::try_from(last).unwrap_or(i64::MAX);
         let seqs = stmt
             .query_map([last], |r| r.get::<_, i64>(0))
@@ -309,12 +431,71 @@ fn predecessor(before: u64) -> String {
     }
 }
 
+/// Take one thing read: show it to the observer and walk on, in the
+/// order of the single-threaded walk (an entry's loose rows, its sealed
+/// rows, its content, then its checks).
+fn take(read: &mut Read, walk: &mut Walk<'_>, observer: &mut impl Observer) {
+    let entry = match read {
+        Read::Loose(rows) => return rows.iter().for_each(|r| observer.row(r)),
+        Read::Entry(entry) => entry,
+    };
+    observer.entry_rows(entry.seq, &entry.sealed);
+    let (content, hash, prev) = match &entry.content {
+        Ok(meta) => {
+            let content = Content {
+                meta,
+                body: &entry.body,
+                sealed: &entry.sealed,
+            };
+            // Copies: what was read is freed by the reading thread.
+            (
+                Ok(content),
+                Some(meta.hash.clone()),
+                Some(meta.prev.clone()),
+            )
+        }
+        Err(reason) => (Err(reason.clone()), entry.hash.clone(), entry.prev.clone()),
+    };
+    if let Ok(c) = &content {
+        observer.entry(c.meta, c.body);
+    }
+    walk.step(Stored {
+        seq: entry.seq,
+        hash,
+        prev,
+        content,
+    });
+}
+
 /// One stored row as the walk sees it.
-struct Stored {
+struct Stored<'r> {
     seq: i64,
     hash: Option<String>,
     prev: Option<String>,
-    entry: Result<Entry, stored::Undecodable>,
+    content: Result<Content<'r>, stored::Undecodable>,
+}
+
+/// What an entry's hash is computed from, as stored.
+struct Content<'r> {
+    meta: &'r EntryMeta,
+    body: &'r str,
+    sealed: &'r SealedRows,
+}
+
+impl Content<'_> {
+    /// The entry's hash from its stored content: straight from the body
+    /// text when it is canonical, else by parsing and re-writing it.
+    fn hash(&self) -> Result<String, String> {
+        let head = Head::of_meta(self.meta);
+        let text = self.body;
+        let rows = || self.sealed.hash().map_err(|e| e.to_string());
+        if is_canonical(text) {
+            return entry::hash_with_canonical_body(&head, text, &rows()?)
+                .map_err(|e| e.to_string());
+        }
+        let body = stored::parse_body(head.seq, text)?;
+        entry::hash_parts(&head, &body, rows()?).map_err(|e| e.to_string())
+    }
 }
 
 /// The state of the walk along the chain.
@@ -340,7 +521,7 @@ impl<'a> Walk<'a> {
         }
     }
 
-    fn step(&mut self, row: Stored) {
+    fn step(&mut self, row: Stored<'_>) {
         self.entries += 1;
         let seq = u64::try_from(row.seq).unwrap_or(0);
         let gap = self.check_number(row.seq);
@@ -403,14 +584,15 @@ impl<'a> Walk<'a> {
         kind == ProblemKind::OutOfOrder
     }
 
-    fn check_content(&mut self, seq: u64, row: &Stored) {
-        let detail = match &row.entry {
-            Err(reason) => reason.clone(),
-            Ok(entry) => match entry_hash(entry) {
-                Ok(hash) if Some(&hash) == row.hash.as_ref() => return,
-                Ok(_) => "its stored content no longer hashes to its recorded hash".to_string(),
-                Err(e) => e.to_string(),
-            },
+    fn check_content(&mut self, seq: u64, row: &Stored<'_>) {
+        let hash = match &row.content {
+            Err(reason) => Err(reason.clone()),
+            Ok(content) => content.hash(),
+        };
+        let detail = match hash {
+            Ok(hash) if Some(&hash) == row.hash.as_ref() => return,
+            Ok(_) => "its stored content no longer hashes to its recorded hash".to_string(),
+            Err(reason) => reason,
         };
         self.push(ProblemKind::ContentChanged, Some(seq), detail);
     }
