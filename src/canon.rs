@@ -50,6 +50,51 @@ pub fn hash_rows(rows: &[u32]) -> HashHex {
     hasher.finalize().to_hex().to_string()
 }
 
+/// Generators of JSON values for the property tests of the modules that
+/// read canonical text (the ledger's canonical check, the audit's body
+/// readers).
+#[cfg(test)]
+pub(crate) mod strategies {
+    use proptest::prelude::*;
+    use serde_json::Value;
+
+    /// JSON values nested up to `depth` levels, about `size` nodes in all
+    /// and at most `width` items per array or object; strings drawn from
+    /// `strings` and object keys from `keys`.
+    pub fn json_value(
+        (depth, size, width): (u32, u32, u32),
+        strings: BoxedStrategy<String>,
+        keys: BoxedStrategy<String>,
+    ) -> impl Strategy<Value = Value> {
+        let leaf = prop_oneof![
+            Just(Value::Null),
+            any::<bool>().prop_map(Value::Bool),
+            any::<i64>().prop_map(Value::from),
+            any::<u64>().prop_map(Value::from),
+            any::<f64>()
+                .prop_filter("finite", |f| f.is_finite())
+                .prop_map(Value::from),
+            strings.prop_map(Value::String),
+        ];
+        let items = 0..width as usize;
+        leaf.prop_recursive(depth, size, width, move |inner| {
+            prop_oneof![
+                prop::collection::vec(inner.clone(), items.clone()).prop_map(Value::Array),
+                prop::collection::btree_map(keys.clone(), inner, items.clone())
+                    .prop_map(|m| Value::Object(m.into_iter().collect())),
+            ]
+        })
+    }
+
+    /// The field values of an entry body: a few known keys as objects' keys.
+    pub fn field_value(strings: BoxedStrategy<String>) -> impl Strategy<Value = Value> {
+        let keys = prop::sample::select(vec!["id", "reference", "score", "x"])
+            .prop_map(str::to_string)
+            .boxed();
+        json_value((3, 24, 4), strings, keys)
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -330,25 +330,7 @@ b"}"#,
     }
 
     fn field_value() -> impl Strategy<Value = Value> {
-        let leaf = prop_oneof![
-            Just(Value::Null),
-            any::<bool>().prop_map(Value::Bool),
-            any::<i64>().prop_map(Value::from),
-            any::<u64>().prop_map(Value::from),
-            any::<f64>()
-                .prop_filter("finite", |f| f.is_finite())
-                .prop_map(Value::from),
-            any::<String>().prop_map(Value::String),
-        ];
-        leaf.prop_recursive(3, 24, 4, |inner| {
-            let keys = prop::sample::select(vec!["id", "reference", "score", "x"]);
-            prop_oneof![
-                prop::collection::vec(inner.clone(), 0..4).prop_map(Value::Array),
-                prop::collection::btree_map(keys, inner, 0..4).prop_map(|m| {
-                    Value::Object(m.into_iter().map(|(k, v)| (k.to_string(), v)).collect())
-                }),
-            ]
-        })
+        crate::canon::strategies::field_value(any::<String>().boxed())
     }
 
     proptest! {

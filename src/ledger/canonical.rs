@@ -340,23 +340,11 @@ mod tests {
     }
 
     fn json_value() -> impl Strategy<Value = Value> {
-        let leaf = prop_oneof![
-            Just(Value::Null),
-            any::<bool>().prop_map(Value::Bool),
-            any::<i64>().prop_map(Value::from),
-            any::<u64>().prop_map(Value::from),
-            any::<f64>()
-                .prop_filter("finite", |f| f.is_finite())
-                .prop_map(Value::from),
-            any::<String>().prop_map(Value::String),
-        ];
-        leaf.prop_recursive(4, 40, 6, |inner| {
-            prop_oneof![
-                prop::collection::vec(inner.clone(), 0..6).prop_map(Value::Array),
-                prop::collection::btree_map("[a-z_ü]{0,6}", inner, 0..6)
-                    .prop_map(|m| Value::Object(m.into_iter().collect())),
-            ]
-        })
+        crate::canon::strategies::json_value(
+            (4, 40, 6),
+            any::<String>().boxed(),
+            "[a-z_ü]{0,6}".boxed(),
+        )
     }
 
     proptest! {
