@@ -7,37 +7,24 @@ use std::time::{Duration, SystemTime, UNIX_EPOCH};
 
 use serde_json::Value;
 
-use crate::support::{Fixture, run};
+use crate::support::{Fixture, PENGUINS_PLAN, run};
 
-const PLAN: &str = r#"
-[plan]
-name = "resume"
-seed = 3
-
-[data]
-path = "penguins.csv"
-target = "species"
-features = ["bill_*", "flipper_length_mm", "body_mass_g"]
-
-[prep]
-impute = "mean"
-
-[resample]
-folds = 5
-repeats = 30
-
-[[candidates]]
-learner = "nearest-neighbors"
-k = [1, 3, 5, 7, 9, 11, 13, 15]
-
-[[candidates]]
-learner = "tree"
-depth = [1, 2, 3, 4, 5, 6]
-
-[[candidates]]
-learner = "logistic"
-lambda = [0.1, 1.0, 10.0]
-"#;
+/// The shared penguins plan, made long enough to kill mid-run: 30 repeats
+/// of 5 folds and three learners.
+fn plan() -> String {
+    let head = PENGUINS_PLAN
+        .replace(
+            "name = \"penguins\"\nseed = 11",
+            "name = \"resume\"\nseed = 3",
+        )
+        .replace("folds = 5", "folds = 5\nrepeats = 30")
+        .replace("k = [1, 5, 9]", "k = [1, 3, 5, 7, 9, 11, 13, 15]");
+    assert!(
+        head.contains("seed = 3") && head.contains("repeats = 30") && head.contains("k = [1, 3, 5")
+    );
+    head + "\n[[candidates]]\nlearner = \"tree\"\ndepth = [1, 2, 3, 4, 5, 6]\n\n\
+            [[candidates]]\nlearner = \"logistic\"\nlambda = [0.1, 1.0, 10.0]\n"
+}
 
 fn run_json(fx: &Fixture, ledger: &str, plan: &str) -> Value {
     let (code, stdout, stderr) = run(fx
@@ -51,7 +38,7 @@ fn run_json(fx: &Fixture, ledger: &str, plan: &str) -> Value {
 #[test]
 fn a_killed_run_resumes_to_the_same_result_bytes() {
     let fx = Fixture::new();
-    fx.write("plan.toml", PLAN);
+    fx.write("plan.toml", &plan());
     let whole = run_json(&fx, "whole.sqlite", "plan.toml");
     // Kill at a random point of the run (the delay is printed so a failure can be retried).
     let nanos = SystemTime::now()
@@ -99,7 +86,7 @@ fn a_killed_run_resumes_to_the_same_result_bytes() {
 #[test]
 fn another_plan_that_shares_jobs_reuses_them() {
     let fx = Fixture::new();
-    let small = PLAN.replace("repeats = 30", "repeats = 1");
+    let small = plan().replace("repeats = 30", "repeats = 1");
     fx.write("a.toml", &small);
     run_json(&fx, "l.sqlite", "a.toml");
     // Same data, splits, prep and candidates, plus one more block and a new name.
