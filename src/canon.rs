@@ -86,6 +86,25 @@ pub(crate) mod strategies {
         })
     }
 
+    /// Entry bodies: up to five of the fields the audit reads (and one it
+    /// does not), each with any [`field_value`].
+    pub fn body_fields(
+        strings: BoxedStrategy<String>,
+    ) -> impl Strategy<Value = std::collections::BTreeMap<&'static str, Value>> {
+        let names = vec![
+            "candidate",
+            "candidate_label",
+            "metric",
+            "reason",
+            "chosen_label",
+            "score",
+            "sealed_rows",
+            "candidates",
+            "other",
+        ];
+        prop::collection::btree_map(prop::sample::select(names), field_value(strings), 0..6)
+    }
+
     /// The field values of an entry body: a few known keys as objects' keys.
     pub fn field_value(strings: BoxedStrategy<String>) -> impl Strategy<Value = Value> {
         let keys = prop::sample::select(vec!["id", "reference", "score", "x"])
